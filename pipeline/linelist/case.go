@@ -1,0 +1,38 @@
+package linelist
+
+// Case is one row of a line list that survived validation, holding only the canonical columns.
+// Columns outside the canonical set are never read into a Case, so personal data in an export
+// (names, phone numbers, addresses) cannot travel further than the CSV reader.
+type Case struct {
+	ID           string // case_id, trimmed; unique within a LineList
+	InfectorID   string // infector_id, trimmed; "" when unknown, index or imported
+	Onset        Day    // onset_date
+	Report       Day    // report_date; meaningful only when HasReport
+	HasReport    bool
+	Imported     bool   // imported yes/no; blank reads as no
+	Setting      string // descriptive strata; interned, so repeated values share storage
+	AgeGroup     string
+	Jurisdiction string
+	Row          int // 1-based physical line of the row in the file (header = line 1)
+}
+
+// Canonical column names, in the order the documentation lists them.
+const (
+	ColCaseID       = "case_id"
+	ColInfectorID   = "infector_id"
+	ColOnsetDate    = "onset_date"
+	ColReportDate   = "report_date"
+	ColSetting      = "setting"
+	ColAgeGroup     = "age_group"
+	ColJurisdiction = "jurisdiction"
+	ColImported     = "imported"
+)
+
+// CanonicalColumns lists every column caseweave reads; all others are skipped unread.
+var CanonicalColumns = []string{
+	ColCaseID, ColInfectorID, ColOnsetDate, ColReportDate,
+	ColSetting, ColAgeGroup, ColJurisdiction, ColImported,
+}
+
+// RequiredColumns must be present in the header for a file to be analysed.
+var RequiredColumns = []string{ColCaseID, ColOnsetDate}

@@ -1,0 +1,56 @@
+package linelist
+
+import (
+	"fmt"
+	"time"
+)
+
+// Day is a calendar date counted in whole days since 1970-01-01 (UTC, proleptic Gregorian).
+// Onset dates in a line list are whole days, so every interval between two cases is an
+// integer number of days and arithmetic on Day needs no time zones.
+type Day int32
+
+// DayOf returns the Day of t's calendar date (its year, month and day, whatever its zone).
+func DayOf(t time.Time) Day {
+	y, m, d := t.Date()
+	return Day(time.Date(y, m, d, 0, 0, 0, 0, time.UTC).Unix() / 86400)
+}
+
+// Time returns midnight UTC of d.
+func (d Day) Time() time.Time { return time.Unix(int64(d)*86400, 0).UTC() }
+
+// String formats d as ISO 8601 (YYYY-MM-DD).
+func (d Day) String() string { return d.Time().Format("2006-01-02") }
+
+// MarshalText writes d as YYYY-MM-DD, so a Day in JSON is a plain date string.
+func (d Day) MarshalText() ([]byte, error) { return []byte(d.String()), nil }
+
+// UnmarshalText reads YYYY-MM-DD.
+func (d *Day) UnmarshalText(b []byte) error {
+	t, err := time.Parse("2006-01-02", string(b))
+	if err != nil {
+		return fmt.Errorf("date %q is not YYYY-MM-DD", b)
+	}
+	*d = DayOf(t)
+	return nil
+}
+
+// ISOWeekStart returns the Monday that starts d's ISO 8601 week.
+func (d Day) ISOWeekStart() Day {
+	// 1970-01-01 was a Thursday: weekday index with Monday = 0 is (d+3) mod 7.
+	wd := (int64(d) + 3) % 7
+	if wd < 0 {
+		wd += 7
+	}
+	return d - Day(wd)
+}
+
+// ISOWeek returns d's ISO 8601 year and week number.
+func (d Day) ISOWeek() (year, week int) { return d.Time().ISOWeek() }
+
+// ParseISODay parses YYYY-MM-DD strictly.
+func ParseISODay(s string) (Day, error) {
+	var d Day
+	err := d.UnmarshalText([]byte(s))
+	return d, err
+}

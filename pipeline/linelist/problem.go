@@ -1,0 +1,63 @@
+package linelist
+
+import (
+	"fmt"
+	"sort"
+)
+
+// Severity says whether a problem cost data (Error: the row or link was dropped) or only
+// deserves a look (Warning: the data were kept as they are).
+type Severity string
+
+const (
+	SeverityError   Severity = "error"
+	SeverityWarning Severity = "warning"
+)
+
+// Code names a kind of problem. The set is part of caseweave's interface: the JSON summary,
+// the check output and the report all use these words.
+type Code string
+
+const (
+	CodeFieldCount          Code = "field_count"           // row has a different number of fields from the header; row rejected
+	CodeMissingID           Code = "missing_id"            // blank case_id; row rejected
+	CodeDuplicateID         Code = "duplicate_id"          // case_id seen before; later row rejected, first kept
+	CodeBadDate             Code = "bad_date"              // a date that cannot be read; onset rejects the row, report date is dropped
+	CodeBadValue            Code = "bad_value"             // a value outside its column's vocabulary (e.g. imported = maybe); value dropped
+	CodeUnknownInfector     Code = "unknown_infector"      // infector_id names no case; link dropped, case kept unlinked
+	CodeSelfInfector        Code = "self_infector"         // infector_id equals case_id; link dropped
+	CodeCycle               Code = "cycle"                 // case lies on a cycle of links; links on the cycle dropped
+	CodeOnsetBeforeInfector Code = "onset_before_infector" // infectee's onset precedes infector's; warning, link kept
+	CodeFutureOnset         Code = "future_onset"          // onset after the analysis date; warning, case kept
+)
+
+// Problem is one thing wrong with the input, with its place in the file. Row is the 1-based
+// physical line on which the record starts, counting the header as line 1, as encoding/csv
+// counts lines; Row is 0 for a problem with the file as a whole.
+type Problem struct {
+	Row      int      `json:"row"`
+	Column   string   `json:"column"`
+	Code     Code     `json:"code"`
+	Severity Severity `json:"severity"`
+	Message  string   `json:"message"`
+}
+
+func (p Problem) String() string {
+	if p.Row == 0 {
+		return fmt.Sprintf("%s %s: %s", p.Severity, p.Code, p.Message)
+	}
+	if p.Column == "" {
+		return fmt.Sprintf("line %d: %s %s: %s", p.Row, p.Severity, p.Code, p.Message)
+	}
+	return fmt.Sprintf("line %d, column %s: %s %s: %s", p.Row, p.Column, p.Severity, p.Code, p.Message)
+}
+
+// SortProblems orders problems by row, then code, so that output is deterministic.
+func SortProblems(ps []Problem) {
+	sort.SliceStable(ps, func(i, j int) bool {
+		if ps[i].Row != ps[j].Row {
+			return ps[i].Row < ps[j].Row
+		}
+		return ps[i].Code < ps[j].Code
+	})
+}
