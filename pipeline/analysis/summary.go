@@ -1,0 +1,355 @@
+package analysis
+
+import "github.com/caseweave/caseweave/pipeline/linelist"
+
+// Summary is everything a report template may show, and the JSON that `check`, `estimate`
+// and `report --json` write. It holds aggregates only: no row of the line list, and no column
+// outside the canonical set, reaches it. Case identifiers appear in Superspreaders and in the
+// largest trees; the report pseudonymises them (keyed hash) unless --show-ids is given.
+//
+// Nullable numbers are pointers; every float in a Summary is finite (NaN and ±Inf are
+// represented as null), so the JSON is valid and charts never receive non-numbers.
+type Summary struct {
+	Tool     Tool         `json:"tool"`
+	AsOf     linelist.Day `json:"as_of"`
+	Seed     uint64       `json:"seed"`
+	Scope    *Scope       `json:"scope,omitempty"`
+	Settings RunSettings  `json:"settings"`
+
+	Input         Input              `json:"input"`
+	Problems      []linelist.Problem `json:"problems"`
+	ProblemCounts []ProblemCount     `json:"problem_counts"`
+	Tree          Tree               `json:"tree"`
+
+	Offspring      *Offspring      `json:"offspring,omitempty"`
+	Outlook        *Outlook        `json:"outlook,omitempty"`
+	SerialInterval *SerialInterval `json:"serial_interval,omitempty"`
+	TimeVarying    []WeekR         `json:"time_varying,omitempty"`
+	InferredLinks  *InferredLinks  `json:"inferred_links,omitempty"`
+	EndOfOutbreak  *EndOfOutbreak  `json:"end_of_outbreak,omitempty"`
+
+	EpiCurve  *EpiCurve  `json:"epi_curve,omitempty"`
+	Clusters  *Clusters  `json:"clusters,omitempty"`
+	AgeMixing *AgeMixing `json:"age_mixing,omitempty"`
+	Strata    []Stratum  `json:"strata,omitempty"`
+
+	// Notes are plain-language remarks the run made about itself (a model that could not be
+	// fitted, a section left out for lack of data); the report shows them.
+	Notes []string `json:"notes,omitempty"`
+}
+
+// Tool names the program that made the summary.
+type Tool struct {
+	Name    string `json:"name"`
+	Version string `json:"version"`
+}
+
+// Scope is set when the summary covers one value of a --by column.
+type Scope struct {
+	Column string `json:"column"`
+	Value  string `json:"value"`
+}
+
+// RunSettings records the analysis choices, so a reader can audit and repeat the run.
+type RunSettings struct {
+	CensorDays       int     `json:"censor_days"`
+	CensorDaysSource string  `json:"censor_days_source"` // "flag", "serial_interval_p95" or "default"
+	Replicates       int     `json:"replicates"`
+	Level            float64 `json:"level"`
+	Interval         string  `json:"interval"` // which interval headlines: "percentile" or "bca"
+	Unit             string  `json:"unit"`     // bootstrap unit: "case" or "cluster"
+	InferMissing     bool    `json:"infer_missing"`
+	SuppressBelow    int     `json:"suppress_below"`
+	Pseudonymised    bool    `json:"pseudonymised"`
+}
+
+// Input describes the file read. Rows = Used + Rejected always.
+type Input struct {
+	Path     string `json:"path"`
+	SHA256   string `json:"sha256"`
+	Rows     int    `json:"rows"`
+	Used     int    `json:"used"`
+	Rejected int    `json:"rejected"`
+}
+
+// ProblemCount is the tally of one problem code, with the first few line numbers.
+type ProblemCount struct {
+	Code      linelist.Code     `json:"code"`
+	Severity  linelist.Severity `json:"severity"`
+	Count     int               `json:"count"`
+	FirstRows []int             `json:"first_rows"`
+}
+
+// Tree holds the transmission forest's statistics. Linked counts cases with a kept infector
+// link; roots are generation 0.
+type Tree struct {
+	Cases          int `json:"cases"`
+	Linked         int `json:"linked"`
+	Roots          int `json:"roots"`
+	Clusters       int `json:"clusters"`
+	LargestCluster int `json:"largest_cluster"`
+	MaxGeneration  int `json:"max_generation"`
+	Imported       int `json:"imported"`
+}
+
+// Estimate is a point estimate with its percentile and BCa bootstrap intervals at the run's
+// level. A bound is null when it is unbounded or cannot be computed.
+type Estimate struct {
+	Estimate   *float64    `json:"estimate"`
+	Percentile [2]*float64 `json:"percentile"`
+	BCa        [2]*float64 `json:"bca"`
+}
+
+// Offspring is the offspring-distribution section (DOMAIN.md §3, §6).
+type Offspring struct {
+	N          int     `json:"n"`        // cases whose offspring were counted
+	Censored   int     `json:"censored"` // cases left out: onset inside the censoring window
+	CensorDays int     `json:"censor_days"`
+	Mean       float64 `json:"mean"`
+	Variance   float64 `json:"variance"`
+	Histogram  []int   `json:"histogram"` // Histogram[x] = cases with x offspring
+
+	Models    []ModelFit `json:"models"`
+	BestModel string     `json:"best_model"`
+	R         Estimate   `json:"R"`
+	K         Estimate   `json:"k"`
+	// PoissonLimit is true when the sample variance does not exceed the mean: no finite k.
+	PoissonLimit bool `json:"poisson_limit"`
+
+	Bootstrap    BootstrapInfo `json:"bootstrap"`
+	ChainSizeFit *ChainSizeFit `json:"chain_size_fit"`
+
+	ZeroShare                 float64  `json:"zero_share"`
+	ShareCausing80pctObserved *float64 `json:"share_causing_80pct_observed"`
+	Superspreaders            []string `json:"superspreaders"`
+	SSEThreshold              int      `json:"sse_threshold"`
+
+	// Concentration is the observed concentration curve (share of cases, largest spreaders
+	// first, against share of transmission).
+	Concentration []CurvePoint `json:"concentration"`
+	// ReplicatesR and ReplicatesK bin the bootstrap replicates for the report's chart.
+	ReplicatesR *Bins `json:"replicates_R,omitempty"`
+	ReplicatesK *Bins `json:"replicates_k,omitempty"`
+}
+
+// ModelFit is one offspring model fitted by maximum likelihood. Expected[x] is n·P(Z = x)
+// for x over the histogram's range, for the fitted-model overlay.
+type ModelFit struct {
+	Name     string    `json:"name"`
+	R        float64   `json:"R"`
+	K        *float64  `json:"k"`
+	LogLik   float64   `json:"loglik"`
+	AIC      float64   `json:"aic"`
+	DeltaAIC float64   `json:"delta_aic"`
+	SE       SE        `json:"se"`
+	Expected []float64 `json:"expected"`
+}
+
+// SE holds standard errors from the observed information.
+type SE struct {
+	R *float64 `json:"R"`
+	K *float64 `json:"k"`
+}
+
+// BootstrapInfo records how the intervals were made.
+type BootstrapInfo struct {
+	Replicates int     `json:"replicates"`
+	Seed       uint64  `json:"seed"`
+	Unit       string  `json:"unit"`
+	Level      float64 `json:"level"`
+	// PoissonLimitShare is the share of replicates with no finite k (their k is unbounded).
+	PoissonLimitShare float64 `json:"poisson_limit_share"`
+}
+
+// ChainSizeFit is R and k fitted from cluster sizes alone [Blumberg & Lloyd-Smith 2013].
+type ChainSizeFit struct {
+	R         float64     `json:"R"`
+	K         *float64    `json:"k"`
+	LogLik    float64     `json:"loglik"`
+	RCI       [2]*float64 `json:"R_ci"`
+	KCI       [2]*float64 `json:"k_ci"`
+	Clusters  int         `json:"clusters"`
+	Censored  int         `json:"censored"`
+	Converged bool        `json:"converged"`
+}
+
+// Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]).
+type Bins struct {
+	Edges  []float64 `json:"edges"`
+	Counts []int     `json:"counts"`
+}
+
+// CurvePoint is one point of a curve in the unit square.
+type CurvePoint struct {
+	X float64 `json:"x"`
+	Y float64 `json:"y"`
+}
+
+// Outlook is the branching-process outlook from the fitted model (DOMAIN.md §2, §4, §6).
+type Outlook struct {
+	Model                    string       `json:"model"`
+	ExtinctionProbability    Estimate     `json:"extinction_probability"`
+	MajorOutbreakProbability Estimate     `json:"major_outbreak_probability"`
+	ShareCausing80pct        Estimate     `json:"share_causing_80pct"`
+	SSEThreshold             int          `json:"sse_threshold"`
+	Active                   int          `json:"active"`
+	Projection               []Projection `json:"projection"`
+	// ChainSize is the model's chain-size distribution P(Y = y), y = 1.., against which the
+	// observed cluster sizes are drawn.
+	ChainSize []float64 `json:"chain_size,omitempty"`
+}
+
+// Projection is the predictive distribution of one future generation's case count, mixed
+// over bootstrap replicates; P50 and P90 are central prediction intervals.
+type Projection struct {
+	Generation int     `json:"generation"`
+	Mean       float64 `json:"mean"`
+	P50        [2]int  `json:"p50"`
+	P90        [2]int  `json:"p90"`
+	PZero      float64 `json:"p_zero"`
+}
+
+// SerialInterval is the fitted serial-interval distribution (DOMAIN.md §5).
+type SerialInterval struct {
+	N                 int                  `json:"n"`
+	Negative          int                  `json:"negative"`
+	NegativeTreatment string               `json:"negative_treatment"`
+	Fixed             bool                 `json:"fixed"`
+	BestModel         string               `json:"best_model"`
+	Models            []SerialModel        `json:"models"`
+	Quantiles         SerialQuantiles      `json:"quantiles"`
+	MeanCI            [2]*float64          `json:"mean_ci"`
+	Histogram         []SerialHistogramBin `json:"histogram"`
+	Density           []CurvePoint         `json:"density"` // best model's density on a grid (x days, y density)
+}
+
+// SerialModel is one fitted serial-interval family.
+type SerialModel struct {
+	Name   string             `json:"name"`
+	Mean   float64            `json:"mean"`
+	SD     float64            `json:"sd"`
+	Params map[string]float64 `json:"params"`
+	LogLik float64            `json:"loglik"`
+	AIC    float64            `json:"aic"`
+}
+
+// SerialQuantiles of the best (or fixed) serial-interval model, in days.
+type SerialQuantiles struct {
+	P50 float64 `json:"p50"`
+	P95 float64 `json:"p95"`
+	P99 float64 `json:"p99"`
+}
+
+// SerialHistogramBin counts observed intervals of Days days (negative ones included).
+type SerialHistogramBin struct {
+	Days  int `json:"days"`
+	Count int `json:"count"`
+}
+
+// WeekR is the mean offspring of cases with onset in one ISO week.
+type WeekR struct {
+	WeekStart linelist.Day `json:"week_start"`
+	Cases     int          `json:"cases"`
+	R         float64      `json:"R"`
+	Lower     *float64     `json:"lower"`
+	Upper     *float64     `json:"upper"`
+	Censored  bool         `json:"censored"`
+}
+
+// InferredLinks counts infectors assigned by Wallinga–Teunis weights.
+type InferredLinks struct {
+	Inferred    int `json:"inferred"`
+	NoCandidate int `json:"no_candidate"`
+}
+
+// EndOfOutbreak is the probability that no further case follows, day by day
+// [Nishiura, Miyamatsu & Mizumoto 2016].
+type EndOfOutbreak struct {
+	Curve       []DayProbability `json:"curve"`
+	P95Date     *linelist.Day    `json:"p95_date"`
+	P99Date     *linelist.Day    `json:"p99_date"`
+	LastOnset   linelist.Day     `json:"last_onset"`
+	RuleOfThumb *RuleOfThumb     `json:"rule_of_thumb,omitempty"`
+}
+
+// DayProbability is one point of the end-of-outbreak curve.
+type DayProbability struct {
+	Date        linelist.Day `json:"date"`
+	Probability float64      `json:"probability"`
+}
+
+// RuleOfThumb is the declaration rule "twice the longest incubation period after the last
+// case" (common practice), when the template's config gives the incubation period.
+type RuleOfThumb struct {
+	LongestIncubationDays int          `json:"longest_incubation_days"`
+	Date                  linelist.Day `json:"date"`
+}
+
+// EpiCurve counts cases by ISO onset week, one series per setting. Cells below the
+// suppression threshold are null in Series and counted only in Total.
+type EpiCurve struct {
+	Weeks  []linelist.Day `json:"weeks"`
+	Total  []int          `json:"total"`
+	Series []Series       `json:"series"`
+}
+
+// Series is one named row of counts; a null count is suppressed.
+type Series struct {
+	Name   string `json:"name"`
+	Counts []*int `json:"counts"`
+}
+
+// Clusters describes transmission chains: the size distribution and the largest trees.
+type Clusters struct {
+	SizeHistogram []SizeCount `json:"size_histogram"`
+	Largest       []TreeView  `json:"largest"`
+	// NodesShown caps the nodes drawn per tree, so the report stays small and readable.
+	NodesShown int `json:"nodes_shown"`
+}
+
+// SizeCount is the number of clusters of one size, with the chain-size model's expectation
+// and how many of them are still growing (a case inside the censoring window).
+type SizeCount struct {
+	Size     int      `json:"size"`
+	Count    int      `json:"count"`
+	Censored int      `json:"censored"`
+	Expected *float64 `json:"expected"`
+}
+
+// TreeView is one transmission tree, capped to Nodes; Hidden counts cases not drawn.
+type TreeView struct {
+	Root   string       `json:"root"`
+	Size   int          `json:"size"`
+	Depth  int          `json:"depth"`
+	Start  linelist.Day `json:"start"`
+	Nodes  []TreeNode   `json:"nodes"`
+	Hidden int          `json:"hidden"`
+}
+
+// TreeNode is one case in a drawn tree; Parent is the index of its infector in Nodes (−1 at
+// the root).
+type TreeNode struct {
+	ID         string       `json:"id"`
+	Parent     int          `json:"parent"`
+	Generation int          `json:"generation"`
+	Offspring  int          `json:"offspring"`
+	Onset      linelist.Day `json:"onset"`
+	Setting    string       `json:"setting,omitempty"`
+}
+
+// AgeMixing counts infector → infectee links by age group (rows infector, columns
+// infectee). Cells below the suppression threshold are null.
+type AgeMixing struct {
+	Groups []string `json:"groups"`
+	Counts [][]*int `json:"counts"`
+	Links  int      `json:"links"`
+}
+
+// Stratum summarises one setting: cases and mean offspring among uncensored cases. Counts
+// below the suppression threshold are null and the mean is withheld with them.
+type Stratum struct {
+	Column        string   `json:"column"`
+	Value         string   `json:"value"`
+	Cases         *int     `json:"cases"`
+	MeanOffspring *float64 `json:"mean_offspring"`
+}
