@@ -1,0 +1,94 @@
+package analysis
+
+import (
+	"sort"
+
+	"github.com/caseweave/caseweave/pipeline/forest"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+)
+
+// ToolName and Version identify caseweave in every summary and report.
+const (
+	ToolName = "caseweave"
+	Version  = "0.1.0"
+)
+
+// firstRowsShown caps the line numbers listed per problem code in ProblemCounts.
+const firstRowsShown = 5
+
+// CheckSummary gathers the data-quality part of a Summary: the input's row accounting, every
+// problem (the reader's and the forest's, sorted by line), their tallies and the forest's
+// statistics.
+func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf linelist.Day) *Summary {
+	s := &Summary{
+		Tool: Tool{Name: ToolName, Version: Version},
+		AsOf: asOf,
+		Input: Input{
+			Path: path, SHA256: ll.SHA256, Rows: ll.Rows,
+			Used: len(ll.Cases), Rejected: ll.Rejected,
+		},
+	}
+	s.Problems = make([]linelist.Problem, 0, len(ll.Problems)+len(f.Problems))
+	s.Problems = append(s.Problems, ll.Problems...)
+	s.Problems = append(s.Problems, f.Problems...)
+	linelist.SortProblems(s.Problems)
+	s.ProblemCounts = countProblems(s.Problems)
+	s.Tree = TreeStats(ll.Cases, f)
+	return s
+}
+
+// TreeStats summarises a forest.
+func TreeStats(cases []linelist.Case, f *forest.Forest) Tree {
+	t := Tree{
+		Cases: len(cases), Linked: f.Linked, Roots: f.Roots(), Clusters: len(f.Clusters),
+		LargestCluster: f.LargestCluster(), MaxGeneration: f.MaxGeneration(),
+	}
+	for i := range cases {
+		if cases[i].Imported {
+			t.Imported++
+		}
+	}
+	return t
+}
+
+func countProblems(ps []linelist.Problem) []ProblemCount {
+	byCode := map[linelist.Code]*ProblemCount{}
+	for _, p := range ps {
+		pc := byCode[p.Code]
+		if pc == nil {
+			pc = &ProblemCount{Code: p.Code, Severity: p.Severity, FirstRows: []int{}}
+			byCode[p.Code] = pc
+		}
+		pc.Count++
+		if p.Severity == linelist.SeverityError {
+			pc.Severity = linelist.SeverityError
+		}
+		if len(pc.FirstRows) < firstRowsShown && p.Row > 0 {
+			pc.FirstRows = append(pc.FirstRows, p.Row)
+		}
+	}
+	out := make([]ProblemCount, 0, len(byCode))
+	for _, pc := range byCode {
+		out = append(out, *pc)
+	}
+	sort.Slice(out, func(i, j int) bool {
+		if out[i].Severity != out[j].Severity {
+			return out[i].Severity == linelist.SeverityError
+		}
+		if out[i].Count != out[j].Count {
+			return out[i].Count > out[j].Count
+		}
+		return out[i].Code < out[j].Code
+	})
+	return out
+}
+
+// HasErrors reports whether any problem has error severity (check --strict fails then).
+func (s *Summary) HasErrors() bool {
+	for _, p := range s.ProblemCounts {
+		if p.Severity == linelist.SeverityError {
+			return true
+		}
+	}
+	return false
+}
