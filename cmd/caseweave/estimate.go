@@ -1,0 +1,251 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+)
+
+// estimateFlags are the analysis flags `estimate` and `report` share.
+type estimateFlags struct {
+	inputFlags
+	censorDays  int
+	replicates  int
+	seed        uint64
+	level       float64
+	interval    string
+	unit        string
+	generations int
+	serialFixed string
+	workers     int
+}
+
+func (f *estimateFlags) register(c *cobra.Command) {
+	f.inputFlags.register(c)
+	fl := c.Flags()
+	fl.IntVar(&f.censorDays, "censor-days", -1, "leave out of offspring estimation cases with onset fewer than N days before the analysis date (default: the serial interval's 95th percentile, or 14; 0 disables)")
+	fl.IntVar(&f.replicates, "bootstrap", analysis.DefaultReplicates, "bootstrap replicates")
+	fl.Uint64Var(&f.seed, "seed", 1, "random seed: the same input, seed and --as-of give identical output")
+	fl.Float64Var(&f.level, "level", 0.95, "confidence level of the intervals")
+	fl.StringVar(&f.interval, "interval", analysis.IntervalPercentile, "interval that headlines: percentile or bca (both are in the JSON)")
+	fl.StringVar(&f.unit, "unit", analysis.UnitCase, "bootstrap unit: case, or cluster (resample whole transmission chains)")
+	fl.IntVar(&f.generations, "generations", 4, "generations to project")
+	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
+	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
+}
+
+// options turns the flags into analysis options; the caller adds Select and Scope.
+func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.Options, error) {
+	o := analysis.Options{
+		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
+		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
+	}
+	if c.Flags().Changed("censor-days") {
+		if f.censorDays < 0 {
+			return o, usageErrorf("--censor-days must be 0 or more, got %d", f.censorDays)
+		}
+		w := f.censorDays
+		o.CensorDays = &w
+	}
+	if f.serialFixed != "" {
+		parts := strings.Split(f.serialFixed, ",")
+		if len(parts) != 2 {
+			return o, usageErrorf("--serial-fixed takes MEAN,SD in days, e.g. 5.2,2.8; got %q", f.serialFixed)
+		}
+		var ms [2]float64
+		for i, p := range parts {
+			v, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			if err != nil || !(v > 0) {
+				return o, usageErrorf("--serial-fixed takes two positive numbers MEAN,SD; %q is not one", p)
+			}
+			ms[i] = v
+		}
+		o.SerialFixed = &ms
+	}
+	o.Progress = progress(e, f.replicates)
+	return o, nil
+}
+
+// runAnalysis maps option errors to usage errors.
+func runAnalysis(ld *loaded, o analysis.Options) (*analysis.Summary, error) {
+	s, err := analysis.Run(ld.path, ld.list, ld.forest, o)
+	if errors.Is(err, analysis.ErrOptions) {
+		return nil, usageErrorf("%v", err)
+	}
+	return s, withCode(exitInput, err)
+}
+
+// progress returns a bootstrap progress callback that draws a bar on stderr once the work
+// has run for a second, and only when stderr is a terminal.
+func progress(e env, total int) func(done, total int) {
+	if !e.stderrIsTerminal {
+		return nil
+	}
+	start := time.Now()
+	var mu sync.Mutex
+	var bar *progressbar.ProgressBar
+	return func(done, n int) {
+		mu.Lock()
+		defer mu.Unlock()
+		if bar == nil {
+			if time.Since(start) < time.Second || done == n {
+				return
+			}
+			bar = progressbar.NewOptions(n, progressbar.OptionSetWriter(e.stderr),
+				progressbar.OptionSetDescription("bootstrap"), progressbar.OptionClearOnFinish(),
+				progressbar.OptionThrottle(100*time.Millisecond))
+		}
+		_ = bar.Set(done)
+		if done == n {
+			_ = bar.Finish()
+		}
+	}
+}
+
+func newEstimateCmd(e env) *cobra.Command {
+	var f estimateFlags
+	var jsonOut string
+	c := &cobra.Command{
+		Use:   "estimate [flags] LINELIST.csv",
+		Short: "Estimate the offspring distribution (R, k) with bootstrap intervals, and the outlook",
+		Long: `estimate fits Poisson, geometric and negative-binomial offspring distributions to the
+offspring counts of the cases outside the censoring window, by maximum likelihood; picks the
+best by AIC; gives percentile and BCa bootstrap intervals for R, k and the quantities derived
+from them (extinction probability, share of cases causing 80% of transmission); fits R and k
+from cluster sizes alone; and projects the next generations.`,
+		Args: exactArgs(1, "one line-list file"),
+		RunE: func(c *cobra.Command, args []string) error {
+			ld, err := f.load(args[0])
+			if err != nil {
+				return err
+			}
+			o, err := f.options(c, e, ld)
+			if err != nil {
+				return err
+			}
+			s, err := runAnalysis(ld, o)
+			if err != nil {
+				return err
+			}
+			printEstimate(e.stdout, s)
+			if jsonOut != "" {
+				return writeJSON(e, jsonOut, s)
+			}
+			return nil
+		},
+	}
+	f.register(c)
+	c.Flags().StringVar(&jsonOut, "json", "", "write the summary as JSON to FILE (- for stdout)")
+	return c
+}
+
+func fmtNum(p *float64, digits int) string {
+	if p == nil {
+		return "–"
+	}
+	return strconv.FormatFloat(*p, 'f', digits, 64)
+}
+
+func fmtInterval(e analysis.Estimate, which string, digits int) string {
+	iv := e.Percentile
+	if which == analysis.IntervalBCa {
+		iv = e.BCa
+	}
+	lo, hi := fmtNum(iv[0], digits), fmtNum(iv[1], digits)
+	if iv[1] == nil && iv[0] != nil {
+		hi = "∞"
+	}
+	return fmt.Sprintf("%s (%s–%s)", fmtNum(e.Estimate, digits), lo, hi)
+}
+
+func printEstimate(w io.Writer, s *analysis.Summary) {
+	st := s.Settings
+	fmt.Fprintf(w, "Line list  %s  (%d rows: %d used, %d rejected)\n", s.Input.Path, s.Input.Rows, s.Input.Used, s.Input.Rejected)
+	fmt.Fprintf(w, "As of      %s; censoring window %d days (%s)\n", s.AsOf, st.CensorDays, censorSource(st.CensorDaysSource))
+	if si := s.SerialInterval; si != nil {
+		fmt.Fprintf(w, "Serial     %s, mean %.2f days, 95th percentile %.1f days (%d links, %d negative)\n",
+			si.BestModel, si.Models[0].Mean, si.Quantiles.P95, si.N, si.Negative)
+	}
+	o := s.Offspring
+	if o == nil {
+		fmt.Fprintln(w, "\nNo offspring estimate.")
+		printNotes(w, s)
+		return
+	}
+	fmt.Fprintf(w, "\nOffspring counts of %d cases (%d left out as censored): mean %.3f, variance %.3f\n", o.N, o.Censored, o.Mean, o.Variance)
+	fmt.Fprintf(w, "\n  %-18s %8s %8s %12s %10s %8s\n", "model", "R", "k", "log-lik", "AIC", "ΔAIC")
+	for _, m := range o.Models {
+		k := "–"
+		if m.K != nil {
+			k = strconv.FormatFloat(*m.K, 'f', 3, 64)
+		} else if m.Name == "negative_binomial" {
+			k = "∞"
+		}
+		best := ""
+		if m.Name == o.BestModel {
+			best = "  best"
+		}
+		fmt.Fprintf(w, "  %-18s %8.3f %8s %12.3f %10.3f %8.3f%s\n", m.Name, m.R, k, m.LogLik, m.AIC, m.DeltaAIC, best)
+	}
+	lvl := fmt.Sprintf("%g%%", 100*st.Level)
+	fmt.Fprintf(w, "\n%s intervals, %s bootstrap of %d %ss (seed %d):\n", lvl, st.Interval, st.Replicates, st.Unit, s.Seed)
+	fmt.Fprintf(w, "  R  %s\n", fmtInterval(o.R, st.Interval, 3))
+	if o.PoissonLimit {
+		fmt.Fprintln(w, "  k  no finite estimate: the variance does not exceed the mean (Poisson limit)")
+	} else {
+		fmt.Fprintf(w, "  k  %s\n", fmtInterval(o.K, st.Interval, 3))
+	}
+	if cf := o.ChainSizeFit; cf != nil {
+		k := "∞ (Poisson limit)"
+		if cf.K != nil {
+			k = fmt.Sprintf("%.3f (%s–%s)", *cf.K, fmtNum(cf.KCI[0], 3), fmtNum(cf.KCI[1], 3))
+		}
+		fmt.Fprintf(w, "  from %d cluster sizes (%d still growing): R %.3f (%s–%s), k %s\n", cf.Clusters, cf.Censored, cf.R, fmtNum(cf.RCI[0], 3), fmtNum(cf.RCI[1], 3), k)
+	}
+	fmt.Fprintf(w, "\nShare with no secondary case   %.1f%%\n", 100*o.ZeroShare)
+	if o.ShareCausing80pctObserved != nil {
+		fmt.Fprintf(w, "Share causing 80%% (observed)    %.1f%%\n", 100**o.ShareCausing80pctObserved)
+	}
+	fmt.Fprintf(w, "Superspreaders (> %d offspring)  %d\n", o.SSEThreshold, len(o.Superspreaders))
+	if ol := s.Outlook; ol != nil {
+		fmt.Fprintf(w, "\nOutlook (%s model)\n", ol.Model)
+		fmt.Fprintf(w, "  extinction probability of one chain  %s\n", fmtInterval(ol.ExtinctionProbability, st.Interval, 3))
+		fmt.Fprintf(w, "  major-outbreak probability           %s\n", fmtInterval(ol.MajorOutbreakProbability, st.Interval, 3))
+		fmt.Fprintf(w, "  share causing 80%% (by ν)             %s\n", fmtInterval(ol.ShareCausing80pct, st.Interval, 3))
+		fmt.Fprintf(w, "  cases still able to transmit         %d\n", ol.Active)
+		for _, p := range ol.Projection {
+			fmt.Fprintf(w, "  generation %d: mean %.1f, 50%% %d–%d, 90%% %d–%d, P(none) %.2f\n", p.Generation, p.Mean, p.P50[0], p.P50[1], p.P90[0], p.P90[1], p.PZero)
+		}
+	}
+	printNotes(w, s)
+}
+
+func censorSource(s string) string {
+	switch s {
+	case "flag":
+		return "set by --censor-days"
+	case "serial_interval_p95":
+		return "the serial interval's 95th percentile"
+	default:
+		return "default; no serial interval fitted"
+	}
+}
+
+func printNotes(w io.Writer, s *analysis.Summary) {
+	if len(s.Notes) == 0 {
+		return
+	}
+	fmt.Fprintln(w, "\nNotes")
+	for _, n := range s.Notes {
+		fmt.Fprintf(w, "  - %s\n", n)
+	}
+}

@@ -1,0 +1,636 @@
+package analysis
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+
+	"github.com/caseweave/caseweave/pipeline/branching"
+	"github.com/caseweave/caseweave/pipeline/forest"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/pipeline/offspring"
+	"github.com/caseweave/caseweave/pipeline/timing"
+)
+
+// Options are the analysis choices of `estimate` and `report`.
+type Options struct {
+	AsOf linelist.Day
+	// CensorDays is the censoring window w: cases with onset fewer than w days before AsOf
+	// are left out of offspring estimation. Nil: the serial interval's 95th percentile
+	// (rounded up), or DefaultCensorDays when no serial interval could be fitted.
+	CensorDays *int
+	Replicates int     // bootstrap replicates B
+	Seed       uint64  // seeds every random draw of the run
+	Level      float64 // confidence level, e.g. 0.95
+	Interval   string  // IntervalPercentile or IntervalBCa: which interval headlines
+	Unit       string  // UnitCase or UnitCluster: what the bootstrap resamples
+	Workers    int     // goroutines for the bootstrap (≤ 0: all cores); results do not depend on it
+	// Progress, if set, is called as bootstrap replicates finish.
+	Progress func(done, total int)
+	// SerialFixed, if set, is an agreed gamma serial interval (mean, sd in days) used instead
+	// of fitting one.
+	SerialFixed   *[2]float64
+	Generations   int     // generations projected (default 4)
+	Share         float64 // target share of transmission (default 0.8)
+	SuppressBelow int     // stratified counts below this are suppressed (default 5)
+	// IncubationDays, if positive, adds the "twice the longest incubation period" rule of thumb.
+	IncubationDays int
+	// Select restricts the summary to some cases (a --by value); nil selects all. Offspring
+	// are still counted over every infectee, wherever it lives.
+	Select func(c *linelist.Case) bool
+	Scope  *Scope
+}
+
+// Choices for Options.Interval and Options.Unit.
+const (
+	IntervalPercentile = "percentile"
+	IntervalBCa        = "bca"
+	UnitCase           = "case"
+	UnitCluster        = "cluster"
+)
+
+// Defaults, each with its reason.
+const (
+	// DefaultCensorDays is the censoring window when no serial interval is available: two
+	// weeks covers the serial interval of most respiratory infections (common practice).
+	DefaultCensorDays = 14
+	// DefaultReplicates keeps Monte-Carlo error in a 95% percentile bound small (Efron &
+	// Tibshirani 1993, ch. 13, recommend ≥ 1000 for percentile intervals).
+	DefaultReplicates = 2000
+	// projectionReplicates caps how many bootstrap replicates the projection mixes over;
+	// beyond a few hundred the mixture changes less than its decoding error.
+	projectionReplicates = 400
+	// serialBootstrap is the number of replicates behind the serial interval's intervals.
+	serialBootstrap = 500
+	treesShown      = 6
+	nodesPerTree    = 120
+	eooHorizon      = 60
+)
+
+func (o *Options) defaults() error {
+	if o.Replicates == 0 {
+		o.Replicates = DefaultReplicates
+	}
+	if o.Replicates < 1 || o.Replicates > 1_000_000 {
+		return fmt.Errorf("the number of bootstrap replicates must be between 1 and 1000000, got %d", o.Replicates)
+	}
+	if o.Level == 0 {
+		o.Level = 0.95
+	}
+	if !(o.Level > 0.5 && o.Level < 1) {
+		return fmt.Errorf("the confidence level must be between 0.5 and 1 (e.g. 0.95), got %v", o.Level)
+	}
+	switch o.Interval {
+	case "":
+		o.Interval = IntervalPercentile
+	case IntervalPercentile, IntervalBCa:
+	default:
+		return fmt.Errorf("the headline interval must be %q or %q, got %q", IntervalPercentile, IntervalBCa, o.Interval)
+	}
+	switch o.Unit {
+	case "":
+		o.Unit = UnitCase
+	case UnitCase, UnitCluster:
+	default:
+		return fmt.Errorf("the bootstrap unit must be %q or %q, got %q", UnitCase, UnitCluster, o.Unit)
+	}
+	if o.CensorDays != nil && *o.CensorDays < 0 {
+		return fmt.Errorf("the censoring window cannot be negative, got %d days", *o.CensorDays)
+	}
+	if o.Generations == 0 {
+		o.Generations = 4
+	}
+	if o.Generations < 1 || o.Generations > 50 {
+		return fmt.Errorf("projections cover 1 to 50 generations, got %d", o.Generations)
+	}
+	if o.Share == 0 {
+		o.Share = 0.8
+	}
+	if !(o.Share > 0 && o.Share < 1) {
+		return fmt.Errorf("the target share of transmission must be between 0 and 1, got %v", o.Share)
+	}
+	if o.SuppressBelow == 0 {
+		o.SuppressBelow = 5
+	}
+	if o.SuppressBelow < 1 {
+		return fmt.Errorf("the suppression threshold must be at least 1, got %d", o.SuppressBelow)
+	}
+	return nil
+}
+
+// ErrOptions wraps an invalid option, which the command line reports as a usage error.
+var ErrOptions = errors.New("invalid option")
+
+// Run analyses a line list already read and linked: the data-quality summary, the serial
+// interval, the offspring distribution with bootstrap intervals, the branching-process
+// outlook and the aggregates a report draws. Problems with the data become Notes, never
+// errors; only invalid options are errors.
+func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*Summary, error) {
+	if err := opts.defaults(); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrOptions, err)
+	}
+	s := CheckSummary(path, ll, f, opts.AsOf)
+	s.Seed = opts.Seed
+	s.Scope = opts.Scope
+	s.Settings = RunSettings{
+		Replicates: opts.Replicates, Level: opts.Level, Interval: opts.Interval, Unit: opts.Unit,
+		SuppressBelow: opts.SuppressBelow,
+	}
+	a := &run{s: s, cases: ll.Cases, f: f, o: opts}
+	a.selectCases()
+	if opts.Select != nil {
+		s.Tree = a.scopedTree()
+	}
+	a.serialInterval()
+	a.censorWindow()
+	a.offspring()
+	a.outlook()
+	a.endOfOutbreak()
+	a.epiCurve()
+	a.clusters()
+	a.ageMixing()
+	a.strata()
+	return s, nil
+}
+
+// run carries one analysis through its stages.
+type run struct {
+	s     *Summary
+	cases []linelist.Case
+	f     *forest.Forest
+	o     Options
+
+	selected []int32 // indices of the cases in scope
+	inScope  []bool
+	w        int                   // censoring window, days
+	serial   timing.SerialInterval // nil when none
+	fit      *offspring.ModelFit   // negative binomial fit behind the outlook
+	boot     *offspring.BootstrapResult
+}
+
+func (a *run) note(format string, args ...any) {
+	a.s.Notes = append(a.s.Notes, fmt.Sprintf(format, args...))
+}
+
+func (a *run) selectCases() {
+	a.inScope = make([]bool, len(a.cases))
+	for i := range a.cases {
+		if a.o.Select == nil || a.o.Select(&a.cases[i]) {
+			a.inScope[i] = true
+			a.selected = append(a.selected, int32(i))
+		}
+	}
+}
+
+// scopedTree is TreeStats restricted to the selected cases; a tree belongs to the scope of
+// its root.
+func (a *run) scopedTree() Tree {
+	t := Tree{Cases: len(a.selected)}
+	for _, i := range a.selected {
+		if a.f.Infector[i] != forest.None {
+			t.Linked++
+		} else {
+			t.Roots++
+		}
+		if a.cases[i].Imported {
+			t.Imported++
+		}
+	}
+	for _, c := range a.f.Clusters {
+		if !a.inScope[c.Root] {
+			continue
+		}
+		t.Clusters++
+		t.LargestCluster = max(t.LargestCluster, c.Size)
+		t.MaxGeneration = max(t.MaxGeneration, c.Depth)
+	}
+	return t
+}
+
+// censored reports whether case i is inside the censoring window: its onset is fewer than w
+// days before the analysis date, so its offspring may not all have appeared yet.
+func (a *run) censored(i int32) bool {
+	return int(a.o.AsOf-a.cases[i].Onset) < a.w
+}
+
+func (a *run) rng(stream uint64) *rand.Rand { return rand.New(rand.NewPCG(a.o.Seed, stream)) }
+
+// Streams of the run's random numbers, one per stage, so stages do not share draws.
+const (
+	streamSerial = iota + 1
+	streamWeekly
+	streamChain
+)
+
+func (a *run) serialInterval() {
+	var intervals []int
+	for _, i := range a.selected {
+		if j := a.f.Infector[i]; j != forest.None {
+			intervals = append(intervals, int(a.cases[i].Onset-a.cases[j].Onset))
+		}
+	}
+	if a.o.SerialFixed != nil {
+		g, err := timing.FixedGamma(a.o.SerialFixed[0], a.o.SerialFixed[1])
+		if err != nil {
+			a.note("The agreed serial interval could not be used: %v.", err)
+			return
+		}
+		a.serial = g
+		si := &SerialInterval{
+			N: len(intervals), Fixed: true, BestModel: g.Name(),
+			NegativeTreatment: "not fitted: an agreed serial interval was given",
+			Models:            []SerialModel{{Name: g.Name(), Mean: g.Mean(), SD: g.SD(), Params: g.Params()}},
+			Quantiles:         SerialQuantiles{P50: g.Quantile(0.5), P95: g.Quantile(0.95), P99: g.Quantile(0.99)},
+		}
+		for _, d := range intervals {
+			if d < 0 {
+				si.Negative++
+			}
+		}
+		si.Histogram, si.Density = serialViews(intervals, g)
+		a.s.SerialInterval = si
+		return
+	}
+	fit, err := timing.FitSerialInterval(intervals, timing.FitOptions{
+		Bootstrap: serialBootstrap, Level: a.o.Level, Workers: a.o.Workers, Rand: a.rng(streamSerial),
+	})
+	if err != nil {
+		a.note("No serial interval was fitted: %v.", err)
+		return
+	}
+	a.serial = fit.Best
+	si := &SerialInterval{
+		N: fit.N, Negative: fit.Negative, NegativeTreatment: fit.NegativeTreatment, BestModel: fit.BestModel,
+		Quantiles: SerialQuantiles{P50: fit.Quantiles.P50, P95: fit.Quantiles.P95, P99: fit.Quantiles.P99},
+	}
+	for _, m := range fit.Models {
+		si.Models = append(si.Models, SerialModel{Name: m.Name, Mean: m.Mean, SD: m.SD, Params: m.Params, LogLik: m.LogLik, AIC: m.AIC})
+	}
+	if len(fit.MeanCI) == 2 {
+		si.MeanCI = [2]*float64{finite(fit.MeanCI[0]), finite(fit.MeanCI[1])}
+	}
+	si.Histogram, si.Density = serialViews(intervals, fit.Best)
+	a.s.SerialInterval = si
+}
+
+// serialViews bins the observed intervals by day and tabulates the model's density.
+func serialViews(intervals []int, si timing.SerialInterval) ([]SerialHistogramBin, []CurvePoint) {
+	m := map[int]int{}
+	hi := 0
+	for _, d := range intervals {
+		m[d]++
+		hi = max(hi, d)
+	}
+	days := make([]int, 0, len(m))
+	for d := range m {
+		days = append(days, d)
+	}
+	sort.Ints(days)
+	hist := make([]SerialHistogramBin, len(days))
+	for i, d := range days {
+		hist[i] = SerialHistogramBin{Days: d, Count: m[d]}
+	}
+	top := math.Max(float64(hi), si.Quantile(0.99))
+	if math.IsNaN(top) || math.IsInf(top, 0) {
+		top = float64(hi)
+	}
+	var dens []CurvePoint
+	for d := 0; d <= int(math.Ceil(top)) && d <= 365; d++ {
+		// The model's probability of an interval that rounds to d days.
+		p := si.CDF(float64(d)+0.5) - si.CDF(math.Max(float64(d)-0.5, 0))
+		if !math.IsNaN(p) {
+			dens = append(dens, CurvePoint{X: float64(d), Y: p})
+		}
+	}
+	return hist, dens
+}
+
+func (a *run) censorWindow() {
+	switch {
+	case a.o.CensorDays != nil:
+		a.w, a.s.Settings.CensorDaysSource = *a.o.CensorDays, "flag"
+	case a.serial != nil && a.s.SerialInterval != nil && !math.IsNaN(a.s.SerialInterval.Quantiles.P95) && a.s.SerialInterval.Quantiles.P95 < 365:
+		a.w, a.s.Settings.CensorDaysSource = int(math.Ceil(a.s.SerialInterval.Quantiles.P95)), "serial_interval_p95"
+	default:
+		a.w, a.s.Settings.CensorDaysSource = DefaultCensorDays, "default"
+	}
+	a.s.Settings.CensorDays = a.w
+}
+
+// offspringTable tabulates the offspring counts of the selected, uncensored cases.
+func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
+	m := map[int]int{}
+	var used []int32
+	censored := 0
+	for _, i := range a.selected {
+		if a.censored(i) {
+			censored++
+			continue
+		}
+		m[int(a.f.Offspring[i])]++
+		used = append(used, i)
+	}
+	return offspring.FromMap(m), used, censored
+}
+
+func (a *run) offspring() {
+	t, used, censored := a.offspringTable()
+	o := &Offspring{
+		N: t.N(), Censored: censored, CensorDays: a.w, Mean: t.Mean(), Variance: t.Variance(),
+		Histogram: t.Histogram(), Superspreaders: []string{},
+	}
+	if o.N < 2 {
+		a.note("Only %d case(s) lie outside the %d-day censoring window: too few to estimate the offspring distribution.", o.N, a.w)
+		return
+	}
+	fits, best, err := offspring.FitAll(t)
+	if err != nil {
+		a.note("The offspring models could not be fitted: %v.", err)
+		return
+	}
+	o.BestModel = best
+	bestAIC := math.Inf(1)
+	for _, m := range fits {
+		bestAIC = math.Min(bestAIC, m.AIC)
+	}
+	for i := range fits {
+		m := fits[i]
+		mf := ModelFit{Name: m.Name, R: m.R, K: m.K, LogLik: m.LogLik, AIC: m.AIC, DeltaAIC: m.AIC - bestAIC,
+			SE: SE{R: finite(m.SE.R), K: m.SE.K}}
+		d := m.Distribution()
+		mf.Expected = make([]float64, len(o.Histogram))
+		for x := range mf.Expected {
+			mf.Expected[x] = float64(o.N) * d.PMF(x)
+		}
+		o.Models = append(o.Models, mf)
+		if m.Name == offspring.NameNegativeBinomial {
+			a.fit = &fits[i]
+		}
+	}
+	if a.fit == nil {
+		a.note("The negative binomial model was not fitted; no intervals or outlook.")
+		a.s.Offspring = o
+		return
+	}
+	o.PoissonLimit = a.fit.PoissonLimit()
+
+	sample := offspring.Sample{Cases: t}
+	if a.o.Unit == UnitCluster {
+		sample = offspring.Sample{Clusters: a.clusterTables(used)}
+	}
+	boot, err := offspring.Bootstrap(sample, offspring.BootstrapOptions{
+		Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
+	})
+	if err != nil {
+		a.note("The bootstrap failed: %v.", err)
+		a.s.Offspring = o
+		return
+	}
+	a.boot = boot
+	o.Bootstrap = BootstrapInfo{Replicates: a.o.Replicates, Seed: a.o.Seed, Unit: a.o.Unit, Level: a.o.Level,
+		PoissonLimitShare: float64(boot.PoissonLimit) / float64(len(boot.Replicates))}
+	o.R = a.interval(offspring.StatR, boot.Estimate.R)
+	o.K = a.interval(offspring.StatK, boot.Estimate.K)
+	o.ReplicatesR = bins(boot.Replicates, offspring.StatR, false)
+	o.ReplicatesK = bins(boot.Replicates, offspring.StatK, true)
+
+	o.ZeroShare = float64(t.Counts[0]) / float64(o.N)
+	if t.Values[0] != 0 {
+		o.ZeroShare = 0
+	}
+	o.ShareCausing80pctObserved = finite(offspring.ObservedShare(t, a.o.Share))
+	o.SSEThreshold = offspring.SuperspreadingThreshold(a.fit.R)
+	for _, i := range used {
+		if int(a.f.Offspring[i]) > o.SSEThreshold {
+			o.Superspreaders = append(o.Superspreaders, a.cases[i].ID)
+		}
+	}
+	for _, p := range offspring.ConcentrationCurve(t) {
+		o.Concentration = append(o.Concentration, CurvePoint{X: p.CaseShare, Y: p.TransmissionShare})
+	}
+	o.ChainSizeFit = a.chainSizeFit()
+	a.s.Offspring = o
+}
+
+// clusterTables gives one frequency table per tree, over the tree's used cases.
+func (a *run) clusterTables(used []int32) []offspring.FreqTable {
+	per := map[int32]map[int]int{}
+	for _, i := range used {
+		c := a.f.Cluster[i]
+		if per[c] == nil {
+			per[c] = map[int]int{}
+		}
+		per[c][int(a.f.Offspring[i])]++
+	}
+	ids := make([]int32, 0, len(per))
+	for c := range per {
+		ids = append(ids, c)
+	}
+	sort.Slice(ids, func(i, j int) bool { return ids[i] < ids[j] })
+	out := make([]offspring.FreqTable, len(ids))
+	for k, c := range ids {
+		out[k] = offspring.FromMap(per[c])
+	}
+	return out
+}
+
+// interval builds an Estimate for stat from the bootstrap.
+func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimate {
+	iv, err := a.boot.Interval(stat, est, a.o.Level)
+	if err != nil {
+		return Estimate{Estimate: finite(est)}
+	}
+	return Estimate{
+		Estimate:   finite(iv.Estimate),
+		Percentile: [2]*float64{finite(iv.Percentile[0]), finite(iv.Percentile[1])},
+		BCa:        [2]*float64{finite(iv.BCa[0]), finite(iv.BCa[1])},
+	}
+}
+
+// distribution turns an (R, k) pair into its offspring distribution (Poisson when k = ∞).
+func distribution(p offspring.Params) offspring.Distribution {
+	if math.IsInf(p.K, 1) || math.IsNaN(p.K) {
+		return offspring.Poisson{R: p.R}
+	}
+	return offspring.NegBin{R: p.R, K: p.K}
+}
+
+func (a *run) chainSizeFit() *ChainSizeFit {
+	var obs []branching.ChainObservation
+	for _, c := range a.f.Clusters {
+		if !a.inScope[c.Root] {
+			continue
+		}
+		obs = append(obs, branching.ChainObservation{Size: c.Size, Censored: int(a.o.AsOf-c.LastOnset) < a.w})
+	}
+	fit, err := branching.FitChainSizes(obs)
+	if err != nil {
+		a.note("No chain-size fit: %v.", err)
+		return nil
+	}
+	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true}
+	bs, err := branching.BootstrapChainFit(obs, min(a.o.Replicates, 1000), a.o.Level, a.o.Seed+streamChain, a.o.Workers)
+	if err != nil {
+		a.note("No intervals for the chain-size fit: %v.", err)
+		return out
+	}
+	out.RCI = [2]*float64{finite(bs.RLo), finite(bs.RHi)}
+	out.KCI = [2]*float64{bs.KLo, bs.KHi}
+	return out
+}
+
+func (a *run) outlook() {
+	if a.fit == nil || a.boot == nil {
+		return
+	}
+	point := a.boot.Estimate
+	d := distribution(point)
+	ol := &Outlook{Model: offspring.NameNegativeBinomial}
+	if a.fit.PoissonLimit() {
+		ol.Model = offspring.NamePoisson
+	}
+	q := func(p offspring.Params) float64 {
+		v, err := branching.ExtinctionProbability(distribution(p))
+		if err != nil {
+			return math.NaN()
+		}
+		return v
+	}
+	share := func(p offspring.Params) float64 {
+		v, err := branching.ShareByNu(distribution(p), a.o.Share)
+		if err != nil || v == nil {
+			return math.NaN()
+		}
+		return *v
+	}
+	ol.ExtinctionProbability = a.interval(q, q(point))
+	ol.MajorOutbreakProbability = a.interval(func(p offspring.Params) float64 { return 1 - q(p) }, 1-q(point))
+	ol.ShareCausing80pct = a.interval(share, share(point))
+	ol.SSEThreshold = offspring.SuperspreadingThreshold(point.R)
+	for _, i := range a.selected {
+		if a.censored(i) {
+			ol.Active++
+		}
+	}
+	reps := make([]offspring.Distribution, 0, projectionReplicates)
+	for b := 0; b < len(a.boot.Replicates) && b < projectionReplicates; b++ {
+		if p := a.boot.Replicates[b]; !math.IsNaN(p.K) {
+			reps = append(reps, distribution(p))
+		}
+	}
+	if len(reps) == 0 {
+		reps = append(reps, d)
+	}
+	if pr, err := branching.Project(reps, ol.Active, a.o.Generations); err != nil {
+		a.note("No projection: %v.", err)
+	} else {
+		for _, g := range pr.Generations {
+			p := Projection{Generation: g.N, PZero: g.PZero}
+			if g.Mean != nil {
+				p.Mean = *g.Mean
+			}
+			p.P50 = [2]int{deref(g.Interval50.Lo), deref(g.Interval50.Hi)}
+			p.P90 = [2]int{deref(g.Interval90.Lo), deref(g.Interval90.Hi)}
+			ol.Projection = append(ol.Projection, p)
+		}
+	}
+	if cs, err := branching.ChainSizes(d, max(a.s.Tree.LargestCluster, 1)); err == nil {
+		ol.ChainSize = cs.PMF
+	}
+	a.s.Outlook = ol
+}
+
+func deref(p *int) int {
+	if p == nil {
+		return -1
+	}
+	return *p
+}
+
+func (a *run) endOfOutbreak() {
+	if a.serial == nil || a.boot == nil || len(a.selected) == 0 {
+		return
+	}
+	onsets := make([]int, len(a.selected))
+	last := a.cases[a.selected[0]].Onset
+	for k, i := range a.selected {
+		onsets[k] = int(a.cases[i].Onset)
+		if a.cases[i].Onset > last {
+			last = a.cases[i].Onset
+		}
+	}
+	res, err := branching.EndOfOutbreak(onsets, distribution(a.boot.Estimate), a.serial.CDF, int(a.o.AsOf), eooHorizon)
+	if err != nil {
+		a.note("No end-of-outbreak curve: %v.", err)
+		return
+	}
+	e := &EndOfOutbreak{LastOnset: last}
+	for k, day := range res.Days {
+		e.Curve = append(e.Curve, DayProbability{Date: linelist.Day(day), Probability: res.Probability[k]})
+	}
+	if res.Day95 != nil {
+		d := linelist.Day(*res.Day95)
+		e.P95Date = &d
+	}
+	if res.Day99 != nil {
+		d := linelist.Day(*res.Day99)
+		e.P99Date = &d
+	}
+	if a.o.IncubationDays > 0 {
+		e.RuleOfThumb = &RuleOfThumb{LongestIncubationDays: a.o.IncubationDays, Date: last + linelist.Day(2*a.o.IncubationDays)}
+	}
+	a.s.EndOfOutbreak = e
+}
+
+func finite(x float64) *float64 {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return nil
+	}
+	return &x
+}
+
+// bins makes a 30-bin histogram of a statistic over the replicates; logScale bins on
+// geometric edges (for k, which spans decades). Non-finite values are left out.
+func bins(reps []offspring.Params, stat func(offspring.Params) float64, logScale bool) *Bins {
+	var xs []float64
+	for _, p := range reps {
+		v := stat(p)
+		if math.IsNaN(v) || math.IsInf(v, 0) || (logScale && v <= 0) {
+			continue
+		}
+		if logScale {
+			v = math.Log(v)
+		}
+		xs = append(xs, v)
+	}
+	if len(xs) == 0 {
+		return nil
+	}
+	lo, hi := xs[0], xs[0]
+	for _, v := range xs {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	const n = 30
+	if hi == lo {
+		hi = lo + 1e-9
+	}
+	width := (hi - lo) / n
+	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n)}
+	for i := range b.Edges {
+		e := lo + float64(i)*width
+		if logScale {
+			e = math.Exp(e)
+		}
+		b.Edges[i] = e
+	}
+	for _, v := range xs {
+		k := int((v - lo) / width)
+		if k >= n {
+			k = n - 1
+		}
+		b.Counts[k]++
+	}
+	return b
+}
