@@ -1,0 +1,85 @@
+package linelist
+
+import (
+	"bytes"
+	"errors"
+	"strings"
+	"testing"
+	"time"
+)
+
+// FuzzRead: no input panics, every error is a *FileError, and the row ledger balances.
+func FuzzRead(f *testing.F) {
+	f.Add([]byte("case_id,infector_id,onset_date\nA,,2026-01-01\nB,A,2026-01-03\n"))
+	f.Add([]byte("\xef\xbb\xbfcase_id;onset_date;imported\r\nA;2026-01-01;maybe\r\nA;2026-01-02;yes\r\n"))
+	f.Add([]byte("case_id\tonset_date\tsetting\n\"a\nb\"\t2026-01-01\tcaf\xe9\n\t2026-01-01\tx\n"))
+	f.Add([]byte("case_id,onset_date\nab\"c,2026-01-01\n\"open,2026-01-02\nx,0000-00-00\n"))
+	f.Add([]byte("Case ID,Date of Onset,x\n1,2026-02-30,\x00\n2,20260101\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		ll, err := Read(bytes.NewReader(data), Options{AsOf: 20500, MaxRows: 10000})
+		if err != nil {
+			var fe *FileError
+			if !errors.As(err, &fe) || fe.Message == "" {
+				t.Fatalf("error %v is not a *FileError with a message", err)
+			}
+			return
+		}
+		checkLedger(t, ll)
+	})
+}
+
+// FuzzParseDate: no panic; an accepted date is in range and, for ISO input, agrees with
+// the standard library.
+func FuzzParseDate(f *testing.F) {
+	for _, s := range []string{"2026-03-04", "20260304", "03/04/2026", "2026-02-30", "0000-00-00", "9999-12-31", "1.1.1900", "2026-03-04T10:00Z"} {
+		f.Add(s, uint8(0))
+		f.Add(s, uint8(1))
+	}
+	f.Fuzz(func(t *testing.T, s string, which uint8) {
+		format := []DateFormat{DateISO, DateDMY, DateMDY, ""}[which%4]
+		d, err := ParseDate(s, format)
+		if err != nil {
+			if err.Error() == "" {
+				t.Fatal("empty error message")
+			}
+			return
+		}
+		if y := d.Time().Year(); y < minYear || y > maxYear {
+			t.Fatalf("ParseDate(%q) = %s, outside the accepted years", s, d)
+		}
+		trimmed := strings.TrimSpace(s)
+		if len(trimmed) >= 10 && trimmed[4] == '-' {
+			tm, terr := time.Parse("2006-01-02", trimmed[:10])
+			if terr != nil || DayOf(tm) != d {
+				t.Fatalf("ParseDate(%q) = %s; time.Parse says %v, %v", s, d, tm, terr)
+			}
+		}
+	})
+}
+
+// FuzzParseConfig: no panic; every error is bad_config; an accepted column mapping never
+// feeds two canonical columns from one header.
+func FuzzParseConfig(f *testing.F) {
+	f.Add([]byte("input:\n  columns:\n    case_id: A\n    onset_date: B\n  date_format: dmy\n"))
+	f.Add([]byte("input:\n  columns:\n    case_id: A\n    onset_date: a\n"))
+	f.Add([]byte("jurisdiction: x\ninput: {delimiter: tab, encoding: latin-1}\n"))
+	f.Add([]byte("inptu: 1\n"))
+	f.Add([]byte("&a [*a]"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		c, err := ParseConfig(data)
+		if err != nil {
+			var fe *FileError
+			if !errors.As(err, &fe) || fe.Code != FileBadConfig {
+				t.Fatalf("error %v is not bad_config", err)
+			}
+			return
+		}
+		seen := map[string]string{}
+		for col, h := range c.Input.Columns {
+			if other, dup := seen[strings.ToLower(h)]; dup {
+				t.Fatalf("%s and %s both map to %q", col, other, h)
+			}
+			seen[strings.ToLower(h)] = col
+		}
+	})
+}

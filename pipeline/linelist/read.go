@@ -1,0 +1,460 @@
+package linelist
+
+import (
+	"bufio"
+	"bytes"
+	"cmp"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"slices"
+	"strings"
+	"unicode/utf8"
+)
+
+// Options control one read.
+type Options struct {
+	// Config is the jurisdiction config; nil reads with defaults (recognised header
+	// variants, ISO dates only, sniffed delimiter, detected encoding).
+	Config *Config
+	// AsOf is the analysis date: onsets after it draw a future_onset warning. The zero Day
+	// (1970-01-01, never a plausible analysis date) switches the check off.
+	AsOf Day
+	// MaxRows limits the number of data rows; 0 means no limit. A file with more rows is
+	// a FileError with Code FileTooManyRows, not a silently truncated line list.
+	MaxRows int
+}
+
+// LineList is the result of reading one export: the cases that survived validation and the
+// ledger of problems found. Every data row read is either a Case or counted in Rejected,
+// so Rows == len(Cases) + Rejected, and every rejected row has at least one problem of
+// severity error on its line.
+type LineList struct {
+	Cases     []Case            // accepted rows, in file order
+	Problems  []Problem         // sorted by row, then code (SortProblems)
+	Rows      int               // data rows read (records after the header; blank lines are not rows)
+	Rejected  int               // data rows not turned into a Case
+	SHA256    string            // hex SHA-256 of the raw file bytes; set by ReadFile, "" from Read
+	Header    []string          // the header fields as they appear in the file (BOM removed)
+	Mapping   map[string]string // canonical column -> header it was read from
+	Delimiter rune              // ',', ';' or '\t'
+	Encoding  string            // EncUTF8, EncUTF8BOM, EncLatin1 or EncWindows1252
+}
+
+// FileCode names a fatal problem with a file as a whole.
+type FileCode string
+
+const (
+	FileEmpty               FileCode = "empty"                // no bytes, or only blank lines
+	FileNoHeader            FileCode = "no_header"            // the first line has no column names
+	FileNoDataRows          FileCode = "no_data_rows"         // a header and nothing else
+	FileNotCSV              FileCode = "not_csv"              // binary content
+	FileUnsupportedEncoding FileCode = "unsupported_encoding" // UTF-16 and other encodings not read
+	FileMissingColumn       FileCode = "missing_column"       // a required or configured column is absent
+	FileAmbiguousColumn     FileCode = "ambiguous_column"     // two columns could feed one canonical column
+	FileTooManyRows         FileCode = "too_many_rows"        // more data rows than Options.MaxRows
+	FileBadConfig           FileCode = "bad_config"           // the jurisdiction config cannot be used
+	FileReadError           FileCode = "read_error"           // the bytes could not be read
+)
+
+// FileError is a problem that stops a file (or config) from being read at all. The CLI
+// maps it to exit status 1.
+type FileError struct {
+	Path    string // file the error is about, when known
+	Code    FileCode
+	Message string // says what is wrong and what to do about it
+}
+
+func (e *FileError) Error() string {
+	if e.Path != "" {
+		return fmt.Sprintf("%s: %s: %s", e.Path, e.Code, e.Message)
+	}
+	return fmt.Sprintf("%s: %s", e.Code, e.Message)
+}
+
+// prefixSize is how much of the file is inspected before reading (binary content, BOM,
+// delimiter). It is also the read buffer's size.
+const prefixSize = 64 << 10
+
+var utf8BOM = []byte{0xEF, 0xBB, 0xBF}
+
+// ReadFile reads the line list at path, computing the SHA-256 of its raw bytes in the
+// same pass. Fatal problems are a *FileError with Path set.
+func ReadFile(path string, opts Options) (*LineList, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, &FileError{Path: path, Code: FileReadError, Message: fmt.Sprintf("cannot open the file: %v", err)}
+	}
+	defer f.Close()
+	size := int64(-1)
+	if st, err := f.Stat(); err == nil && st.Mode().IsRegular() {
+		size = st.Size()
+	}
+	h := sha256.New()
+	ll, err := read(io.TeeReader(f, h), size, opts)
+	if err != nil {
+		var fe *FileError
+		if errors.As(err, &fe) {
+			fe.Path = path
+		}
+		return nil, err
+	}
+	// The CSV reader stops at end of input, so nothing should remain; hash any remainder
+	// anyway so the checksum always covers the whole file.
+	if _, err := io.Copy(h, f); err != nil {
+		return nil, &FileError{Path: path, Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+	}
+	ll.SHA256 = hex.EncodeToString(h.Sum(nil))
+	return ll, nil
+}
+
+// Read reads a line list from r. See the package documentation for what is accepted and
+// which problems are reported. Fatal problems are a *FileError.
+func Read(r io.Reader, opts Options) (*LineList, error) {
+	size := int64(-1)
+	if s, ok := r.(interface{ Size() int64 }); ok { // bytes.Reader, strings.Reader
+		size = s.Size()
+	}
+	return read(r, size, opts)
+}
+
+// reader holds the state of one read; nothing outlives it except the LineList.
+type reader struct {
+	ll     *LineList
+	idx    []int // header column per canonical column (CanonicalColumns order), -1 if absent
+	in     InputConfig
+	asOf   Day
+	intern map[string]string
+	enc    *textDecoder
+}
+
+func read(src io.Reader, size int64, opts Options) (*LineList, error) {
+	var in InputConfig
+	if opts.Config != nil {
+		in = opts.Config.Input
+	}
+	br := bufio.NewReaderSize(src, prefixSize)
+	prefix, err := br.Peek(prefixSize)
+	if err != nil && err != io.EOF && err != bufio.ErrBufferFull {
+		return nil, &FileError{Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+	}
+	atEOF := err == io.EOF
+	bom := bytes.HasPrefix(prefix, utf8BOM)
+	if bom {
+		_, _ = br.Discard(len(utf8BOM))
+		prefix = prefix[len(utf8BOM):]
+	}
+	if bytes.HasPrefix(prefix, []byte{0xFF, 0xFE}) || bytes.HasPrefix(prefix, []byte{0xFE, 0xFF}) {
+		return nil, &FileError{Code: FileUnsupportedEncoding, Message: "the file is UTF-16 (it starts with a UTF-16 byte-order mark); export it again as UTF-8 CSV"}
+	}
+	if atEOF && len(bytes.TrimSpace(prefix)) == 0 {
+		return nil, &FileError{Code: FileEmpty, Message: "the file is empty; export the line list again with its header and rows"}
+	}
+	if looksBinary(prefix) {
+		return nil, &FileError{Code: FileNotCSV, Message: "the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)"}
+	}
+
+	var delim rune
+	switch in.Delimiter {
+	case ",", ";":
+		delim = rune(in.Delimiter[0])
+	case "tab":
+		delim = '\t'
+	default:
+		delim = sniffDelimiter(prefix)
+	}
+
+	dec := newTextDecoder(br, in.Encoding, bom)
+	cr := csv.NewReader(dec)
+	cr.Comma = delim
+	cr.FieldsPerRecord = -1 // field counts are checked here, one problem per row
+	cr.ReuseRecord = true
+
+	rec, err := cr.Read()
+	switch {
+	case err == io.EOF:
+		return nil, &FileError{Code: FileEmpty, Message: "the file has only blank lines; export the line list again with its header and rows"}
+	case err != nil:
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			return nil, &FileError{Code: FileNoHeader, Message: fmt.Sprintf("the header line cannot be split into column names (%v at line %d, byte %d); fix the quotes in the header", pe.Err, pe.Line, pe.Column)}
+		}
+		return nil, readErr(err)
+	}
+	header := make([]string, len(rec))
+	blank := true
+	for i, h := range rec {
+		header[i] = strings.Clone(h)
+		if strings.TrimSpace(h) != "" {
+			blank = false
+		}
+	}
+	if blank {
+		return nil, &FileError{Code: FileNoHeader, Message: "the first line has no column names; the file must start with a header line such as case_id,infector_id,onset_date"}
+	}
+	idx, mapping, err := mapHeader(header, in, delim)
+	if err != nil {
+		return nil, err
+	}
+
+	rd := &reader{
+		ll:     &LineList{Header: header, Mapping: mapping, Delimiter: delim},
+		idx:    idx,
+		in:     in,
+		asOf:   opts.AsOf,
+		intern: map[string]string{},
+		enc:    dec,
+	}
+	ll := rd.ll
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		var pe *csv.ParseError
+		if err != nil && !errors.As(err, &pe) {
+			return nil, readErr(err)
+		}
+		ll.Rows++
+		if opts.MaxRows > 0 && ll.Rows > opts.MaxRows {
+			return nil, &FileError{Code: FileTooManyRows, Message: fmt.Sprintf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
+		}
+		if pe != nil {
+			// encoding/csv resumes at the next line, so one malformed record is one row.
+			rd.quoteProblem(pe)
+			continue
+		}
+		line, _ := cr.FieldPos(0)
+		if len(rec) != len(header) {
+			rd.fieldCount(cr, rec, line, len(header))
+			continue
+		}
+		rd.row(rec, line)
+		if ll.Rows == 1024 && size > 0 {
+			rd.presize(size, cr.InputOffset(), opts.MaxRows)
+		}
+	}
+	if ll.Rows == 0 {
+		return nil, &FileError{Code: FileNoDataRows, Message: "the file has a header but no data rows; check that the export included the cases"}
+	}
+	rd.dropDuplicates()
+	ll.Encoding = dec.encoding()
+	SortProblems(ll.Problems)
+	return ll, nil
+}
+
+func readErr(err error) error {
+	return &FileError{Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+}
+
+// presize grows Cases once to the row count the file size suggests, so a large file does
+// not pay for repeated doubling (which briefly holds two copies of the slice).
+func (rd *reader) presize(size, offset int64, maxRows int) {
+	if offset <= 0 {
+		return
+	}
+	est := size/offset*int64(rd.ll.Rows) + size%offset*int64(rd.ll.Rows)/offset
+	est += est/50 + 1024
+	if maxRows > 0 && est > int64(maxRows) {
+		est = int64(maxRows)
+	}
+	if est > int64(cap(rd.ll.Cases)) && est < 1<<31 {
+		rd.ll.Cases = slices.Grow(rd.ll.Cases, int(est)-len(rd.ll.Cases))
+	}
+}
+
+func (rd *reader) problem(line int, col string, code Code, sev Severity, msg string) {
+	rd.ll.Problems = append(rd.ll.Problems, Problem{Row: line, Column: col, Code: code, Severity: sev, Message: msg})
+}
+
+// quoteProblem reports a record encoding/csv could not split. Quotes are read strictly:
+// with LazyQuotes a quote left open would silently swallow every later row into one field.
+func (rd *reader) quoteProblem(pe *csv.ParseError) {
+	rd.ll.Rejected++
+	var msg string
+	switch {
+	case errors.Is(pe.Err, csv.ErrBareQuote):
+		msg = fmt.Sprintf("a quote appears inside a field that does not start with one (line %d, byte %d); quote the whole field and double the inner quote, e.g. \"5'10\"\"\", or remove it; row rejected", pe.Line, pe.Column)
+	case pe.Line > pe.StartLine:
+		msg = fmt.Sprintf("a quoted field that starts on line %d is not closed properly (found at line %d, byte %d); everything up to there was read as this one row; close the quote or double quotes inside the field; row rejected", pe.StartLine, pe.Line, pe.Column)
+	default:
+		msg = fmt.Sprintf("a quoted field is not closed properly (byte %d): a quote inside a quoted field must be doubled (\"\"); row rejected", pe.Column)
+	}
+	rd.problem(pe.StartLine, "", CodeFieldCount, SeverityError, msg)
+}
+
+func (rd *reader) fieldCount(cr *csv.Reader, rec []string, line, want int) {
+	rd.ll.Rejected++
+	msg := fmt.Sprintf("the row has %d fields but the header has %d; check for a delimiter inside an unquoted value or a missing or extra field; row rejected", len(rec), want)
+	if last, _ := cr.FieldPos(len(rec) - 1); last > line {
+		msg = fmt.Sprintf("the row has %d fields but the header has %d, and the record runs from line %d to line %d, so a quote is probably unbalanced; fix the quoting; row rejected", len(rec), want, line, last)
+	}
+	rd.problem(line, "", CodeFieldCount, SeverityError, msg)
+}
+
+// cell returns the trimmed value of canonical column ci, or "" when the file lacks it.
+func (rd *reader) cell(rec []string, ci int) string {
+	if i := rd.idx[ci]; i >= 0 {
+		return strings.TrimSpace(rec[i])
+	}
+	return ""
+}
+
+// badText explains why a cell cannot be used as text, or returns "".
+func (rd *reader) badText(s string) string {
+	if !utf8.ValidString(s) {
+		return fmt.Sprintf("contains bytes that are not valid UTF-8, although the file was read as %s (decided at its first non-ASCII character); export the file again as UTF-8, or set input.encoding in the config if the whole file is Latin-1 or Windows-1252", rd.enc.encoding())
+	}
+	if strings.IndexByte(s, 0) >= 0 {
+		return "contains a NUL byte; remove it or export the file again"
+	}
+	return ""
+}
+
+// Canonical column positions in CanonicalColumns.
+const (
+	ciCaseID = iota
+	ciInfectorID
+	ciOnsetDate
+	ciReportDate
+	ciSetting
+	ciAgeGroup
+	ciJurisdiction
+	ciImported
+)
+
+func (rd *reader) row(rec []string, line int) {
+	ll := rd.ll
+	reject := false
+	c := Case{Row: line}
+
+	id := rd.cell(rec, ciCaseID)
+	switch {
+	case id == "":
+		reject = true
+		rd.problem(line, ColCaseID, CodeMissingID, SeverityError, "case_id is blank; every row needs an identifier; row rejected")
+	case rd.badText(id) != "":
+		reject = true
+		rd.problem(line, ColCaseID, CodeBadValue, SeverityError, "case_id "+rd.badText(id)+"; row rejected")
+	}
+
+	onset := rd.cell(rec, ciOnsetDate)
+	if onset == "" {
+		reject = true
+		rd.problem(line, ColOnsetDate, CodeBadDate, SeverityError, "onset_date is blank; every case needs an onset date; row rejected")
+	} else if d, err := ParseDate(onset, rd.in.DateFormat); err != nil {
+		reject = true
+		rd.problem(line, ColOnsetDate, CodeBadDate, SeverityError, "onset_date: "+err.Error()+"; row rejected")
+	} else {
+		c.Onset = d
+		if rd.asOf != 0 && d > rd.asOf {
+			rd.problem(line, ColOnsetDate, CodeFutureOnset, SeverityWarning, fmt.Sprintf("onset %s is after the analysis date %s; check the date (or the analysis date)", d, rd.asOf))
+		}
+	}
+
+	if rep := rd.cell(rec, ciReportDate); rep != "" {
+		if d, err := ParseDate(rep, rd.in.DateFormat); err != nil {
+			rd.problem(line, ColReportDate, CodeBadDate, SeverityWarning, "report_date: "+err.Error()+"; report date left blank")
+		} else {
+			c.Report, c.HasReport = d, true
+		}
+	}
+
+	if inf := rd.cell(rec, ciInfectorID); inf != "" {
+		if why := rd.badText(inf); why != "" {
+			rd.problem(line, ColInfectorID, CodeBadValue, SeverityError, "infector_id "+why+"; link dropped")
+		} else if inf == id {
+			c.InfectorID = inf // replaced by the cloned ID below, sharing its storage
+		} else {
+			c.InfectorID = strings.Clone(inf)
+		}
+	}
+
+	switch v := rd.cell(rec, ciImported); strings.ToLower(v) {
+	case "", "no", "false", "0", "n":
+	case "yes", "true", "1", "y":
+		c.Imported = true
+	default:
+		rd.problem(line, ColImported, CodeBadValue, SeverityWarning, fmt.Sprintf("imported %q is not one of yes, no, true, false, 1, 0, y, n (or blank); read as not imported", clip(v)))
+	}
+
+	c.Setting = rd.stratum(rec, ciSetting, ColSetting, line)
+	c.AgeGroup = rd.stratum(rec, ciAgeGroup, ColAgeGroup, line)
+	c.Jurisdiction = rd.stratum(rec, ciJurisdiction, ColJurisdiction, line)
+
+	if reject {
+		ll.Rejected++
+		return
+	}
+	c.ID = strings.Clone(id)
+	if c.InfectorID != "" && c.InfectorID == id {
+		c.InfectorID = c.ID // a self link, reported by forest; share the string
+	}
+	ll.Cases = append(ll.Cases, c)
+}
+
+// stratum reads a descriptive column, interned so that repeated values share storage.
+func (rd *reader) stratum(rec []string, ci int, col string, line int) string {
+	v := rd.cell(rec, ci)
+	if v == "" {
+		return ""
+	}
+	if s, ok := rd.intern[v]; ok {
+		return s
+	}
+	if why := rd.badText(v); why != "" {
+		rd.problem(line, col, CodeBadValue, SeverityWarning, col+" "+why+"; value left blank")
+		return ""
+	}
+	s := strings.Clone(v)
+	rd.intern[s] = s
+	return s
+}
+
+// dropDuplicates rejects every row whose case_id appeared on an earlier row. It sorts an
+// index rather than keeping a map from identifier to row during the read, which for ten
+// million rows saves several hundred megabytes.
+func (rd *reader) dropDuplicates() {
+	cs := rd.ll.Cases
+	if len(cs) < 2 {
+		return
+	}
+	order := make([]int32, len(cs))
+	for i := range order {
+		order[i] = int32(i)
+	}
+	slices.SortFunc(order, func(a, b int32) int {
+		if c := strings.Compare(cs[a].ID, cs[b].ID); c != 0 {
+			return c
+		}
+		return cmp.Compare(a, b)
+	})
+	drop := make([]bool, len(cs))
+	dups := 0
+	first := order[0]
+	for _, i := range order[1:] {
+		if cs[i].ID != cs[first].ID {
+			first = i
+			continue
+		}
+		drop[i] = true
+		dups++
+		rd.problem(cs[i].Row, ColCaseID, CodeDuplicateID, SeverityError, fmt.Sprintf("case_id %q was already used on line %d, whose row is kept; give this case its own identifier or delete the repeated row; row rejected", clip(cs[i].ID), cs[first].Row))
+	}
+	if dups == 0 {
+		return
+	}
+	kept := cs[:0]
+	for i, c := range cs {
+		if !drop[i] {
+			kept = append(kept, c)
+		}
+	}
+	clear(cs[len(kept):])
+	rd.ll.Cases = kept
+	rd.ll.Rejected += dups
+}
