@@ -148,6 +148,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.offspring()
 	a.outlook()
 	a.endOfOutbreak()
+	a.weekly()
 	a.epiCurve()
 	a.clusters()
 	a.ageMixing()
@@ -633,4 +634,37 @@ func bins(reps []offspring.Params, stat func(offspring.Params) float64, logScale
 		b.Counts[k]++
 	}
 	return b
+}
+
+// weekly computes mean offspring by ISO onset week, all selected cases included and the
+// weeks inside the censoring window flagged, with the dispersion of the offspring fit
+// behind the intervals.
+func (a *run) weekly() {
+	if len(a.selected) == 0 {
+		return
+	}
+	onsets := make([]linelist.Day, len(a.selected))
+	off := make([]float64, len(a.selected))
+	for k, i := range a.selected {
+		onsets[k] = a.cases[i].Onset
+		off[k] = float64(a.f.Offspring[i])
+	}
+	k := 0.0 // let WeeklyR estimate it
+	if a.fit != nil {
+		if a.fit.K != nil {
+			k = *a.fit.K
+		} else {
+			k = math.Inf(1)
+		}
+	}
+	res, err := timing.WeeklyR(onsets, off, timing.WeeklyOptions{AnalysisDate: a.o.AsOf, Window: a.w, Level: a.o.Level, Dispersion: k})
+	if err != nil {
+		a.note("No weekly R: %v.", err)
+		return
+	}
+	for _, w := range res.Weeks {
+		a.s.TimeVarying = append(a.s.TimeVarying, WeekR{
+			WeekStart: w.WeekStart, Cases: w.Cases, R: w.R, Lower: finite(w.Lower), Upper: finite(w.Upper), Censored: w.Censored,
+		})
+	}
 }

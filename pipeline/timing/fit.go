@@ -1,0 +1,591 @@
+package timing
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"slices"
+	"sort"
+	"sync"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// NegativeTreatment is how FitSerialInterval treats negative intervals, as reported in the
+// summary: gamma, lognormal and Weibull live on (0, ∞) and cannot produce them.
+const NegativeTreatment = "excluded from the parametric fit"
+
+// ModelFit is one family's interval-censored maximum-likelihood fit.
+type ModelFit struct {
+	Name   string             `json:"name"`
+	Mean   float64            `json:"mean"`
+	SD     float64            `json:"sd"`
+	Params map[string]float64 `json:"params"`
+	// LogLik is Σ_d n_d·log(F(d + 0.5) − F(max(d − 0.5, 0))) at the maximum.
+	LogLik float64 `json:"loglik"`
+	// AIC = 2·2 − 2·LogLik (two parameters) [Akaike 1974, IEEE Trans Autom Control 19:716].
+	AIC float64 `json:"aic"`
+	// AtBound is true when the optimum sits on the edge of the search box on the
+	// log-parameter scale: the data (typically all in one or two daily bins) do not pin
+	// the distribution down and the likelihood keeps rising towards a degenerate limit.
+	AtBound bool `json:"at_bound,omitempty"`
+	// Degenerate is true when the intervals fill one daily bin or two adjacent ones: then
+	// a distribution shrinking to a point reaches the saturated likelihood, no finite
+	// maximum exists, and the parameters are where the optimiser stopped. Only the mean
+	// is then meaningful; the spread and quantiles are not.
+	Degenerate bool `json:"degenerate,omitempty"`
+	// Dist is the fitted distribution.
+	Dist SerialInterval `json:"-"`
+}
+
+// Quantiles of the best-fitting serial interval, in days.
+type Quantiles struct {
+	P50 float64 `json:"p50"`
+	P95 float64 `json:"p95"`
+	P99 float64 `json:"p99"`
+}
+
+// BootstrapInfo describes the case bootstrap behind the confidence intervals.
+type BootstrapInfo struct {
+	Replicates int     `json:"replicates"`
+	Failed     int     `json:"failed"`
+	Level      float64 `json:"level"`
+	Method     string  `json:"method"`
+}
+
+// SerialFit is the serial-interval section of the JSON summary.
+type SerialFit struct {
+	// N is the number of intervals used in the fit (the non-negative ones).
+	N int `json:"n"`
+	// Negative is the number of negative intervals, treated as NegativeTreatment says.
+	Negative          int        `json:"negative"`
+	NegativeTreatment string     `json:"negative_treatment"`
+	BestModel         string     `json:"best_model"`
+	Models            []ModelFit `json:"models"`
+	Quantiles         Quantiles  `json:"quantiles"`
+	// MeanCI and P95CI are percentile bootstrap intervals for the best model's mean and
+	// 95th percentile; absent when no bootstrap was asked for or every replicate failed.
+	MeanCI    []float64      `json:"mean_ci,omitempty"`
+	P95CI     []float64      `json:"p95_ci,omitempty"`
+	Bootstrap *BootstrapInfo `json:"bootstrap,omitempty"`
+	// Best is the best model's distribution (lowest AIC).
+	Best SerialInterval `json:"-"`
+}
+
+// FitOptions control FitSerialInterval's bootstrap.
+type FitOptions struct {
+	// Bootstrap is the number of case-bootstrap replicates B; 0 skips the intervals.
+	Bootstrap int
+	// Level is the confidence level of the intervals; 0 means 0.95.
+	Level float64
+	// Workers is the number of goroutines for the replicates; ≤ 0 means GOMAXPROCS.
+	// Results do not depend on it.
+	Workers int
+	// Rand seeds the bootstrap; required when Bootstrap > 0.
+	Rand *rand.Rand
+}
+
+// TooFewIntervalsError says the fit had fewer than two usable (non-negative) intervals.
+type TooFewIntervalsError struct {
+	Usable, Negative int
+}
+
+func (e *TooFewIntervalsError) Error() string {
+	return fmt.Sprintf("serial interval: %d usable interval(s) (%d negative excluded); at least 2 non-negative intervals are needed for a fit",
+		e.Usable, e.Negative)
+}
+
+// FitSerialInterval fits gamma, lognormal and Weibull serial intervals to integer onset
+// differences (infectee minus infector, in days) by maximum likelihood with daily interval
+// censoring: interval d contributes log(F(d + 0.5) − F(max(d − 0.5, 0))) (DOMAIN.md §5;
+// the coarse-data likelihood of Reich et al. 2009, Stat Med 28:2769, with a one-day window;
+// citation recalled from memory).
+// Negative intervals are counted and excluded. Each fit maximises over log-parameters
+// (lognormal: meanlog and log sdlog) with Nelder–Mead from method-of-moments starts
+// (with Sheppard's correction −1/12 for the variance of day-rounded data; Sheppard 1898,
+// Proc Lond Math Soc 29:353, citation recalled from memory), polished by Newton steps on a central-difference Hessian. The best
+// model has the lowest AIC. With opt.Bootstrap = B > 0, the mean and 95th percentile of
+// the best family get percentile intervals [Efron & Tibshirani 1993, ch. 13] from B case
+// bootstrap replicates, each a multinomial draw over the table of distinct intervals
+// (DOMAIN.md §6), refitted within the best family.
+func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
+	tab, neg := tabulateIntervals(intervals)
+	out := SerialFit{N: tab.n, Negative: neg, NegativeTreatment: NegativeTreatment}
+	if tab.n < 2 {
+		return out, &TooFewIntervalsError{Usable: tab.n, Negative: neg}
+	}
+	level := opt.Level
+	if level == 0 {
+		level = 0.95
+	}
+	if !(level > 0 && level < 1) {
+		return out, fmt.Errorf("serial interval: confidence level %v is not in (0, 1)", opt.Level)
+	}
+	if opt.Bootstrap < 0 {
+		return out, fmt.Errorf("serial interval: bootstrap replicates %d is negative", opt.Bootstrap)
+	}
+	if opt.Bootstrap > 0 && opt.Rand == nil {
+		return out, fmt.Errorf("serial interval: a bootstrap needs a seeded *rand.Rand")
+	}
+	fams := families()
+	var fits []ModelFit
+	var thetas [][2]float64
+	var errs []error
+	for _, fam := range fams {
+		mf, th, err := fitFamily(fam, tab, fam.start(tab))
+		if err != nil {
+			errs = append(errs, err)
+			continue
+		}
+		fits = append(fits, mf)
+		thetas = append(thetas, th)
+	}
+	if len(fits) == 0 {
+		return out, fmt.Errorf("serial interval: no family could be fitted: %v", errs)
+	}
+	best := 0
+	for i := range fits {
+		if fits[i].AIC < fits[best].AIC {
+			best = i
+		}
+	}
+	out.Models = fits
+	out.BestModel = fits[best].Name
+	out.Best = fits[best].Dist
+	out.Quantiles = Quantiles{
+		P50: out.Best.Quantile(0.5),
+		P95: out.Best.Quantile(0.95),
+		P99: out.Best.Quantile(0.99),
+	}
+	if opt.Bootstrap > 0 {
+		var fam family
+		for _, f := range fams {
+			if f.name == out.BestModel {
+				fam = f
+			}
+		}
+		means, p95s, failed := bootstrapFits(fam, tab, thetas[best], opt.Bootstrap, opt.Workers, opt.Rand)
+		out.Bootstrap = &BootstrapInfo{
+			Replicates: opt.Bootstrap, Failed: failed, Level: level,
+			Method: "percentile, case bootstrap (multinomial over distinct intervals), best family refitted",
+		}
+		if len(means) > 0 {
+			a := (1 - level) / 2
+			out.MeanCI = []float64{quantile7(means, a), quantile7(means, 1-a)}
+			out.P95CI = []float64{quantile7(p95s, a), quantile7(p95s, 1-a)}
+		}
+	}
+	return out, nil
+}
+
+// FitFamily fits one family by name (NameGamma, NameLogNormal or NameWeibull) with the
+// same likelihood and optimiser as FitSerialInterval; negative intervals are excluded.
+func FitFamily(name string, intervals []int) (ModelFit, error) {
+	tab, neg := tabulateIntervals(intervals)
+	if tab.n < 2 {
+		return ModelFit{}, &TooFewIntervalsError{Usable: tab.n, Negative: neg}
+	}
+	for _, fam := range families() {
+		if fam.name == name {
+			mf, _, err := fitFamily(fam, tab, fam.start(tab))
+			return mf, err
+		}
+	}
+	return ModelFit{}, fmt.Errorf("serial interval: unknown family %q (want %s, %s or %s)", name, NameGamma, NameLogNormal, NameWeibull)
+}
+
+// CensoredLogLik is the daily-interval-censored log-likelihood of si for the non-negative
+// intervals (negative ones are skipped), as maximised by FitSerialInterval.
+func CensoredLogLik(si SerialInterval, intervals []int) float64 {
+	tab, _ := tabulateIntervals(intervals)
+	return logLik(si, tab.values, tab.counts)
+}
+
+// intervalTable is the frequency table of non-negative intervals.
+type intervalTable struct {
+	values []int
+	counts []int
+	n      int
+}
+
+func tabulateIntervals(intervals []int) (intervalTable, int) {
+	m := map[int]int{}
+	neg := 0
+	for _, d := range intervals {
+		if d < 0 {
+			neg++
+			continue
+		}
+		m[d]++
+	}
+	t := intervalTable{}
+	for v := range m {
+		t.values = append(t.values, v)
+	}
+	sort.Ints(t.values)
+	t.counts = make([]int, len(t.values))
+	for i, v := range t.values {
+		t.counts[i] = m[v]
+		t.n += m[v]
+	}
+	return t, neg
+}
+
+func (t intervalTable) moments() (mean, variance float64) {
+	for i, v := range t.values {
+		mean += float64(t.counts[i]) * float64(v)
+	}
+	mean /= float64(t.n)
+	for i, v := range t.values {
+		d := float64(v) - mean
+		variance += float64(t.counts[i]) * d * d
+	}
+	variance /= float64(t.n - 1)
+	return mean, variance
+}
+
+// impossiblePenalty replaces log(0) for an observed interval the distribution cannot
+// produce (underflow), so the optimiser sees a finite, ordered objective.
+const impossiblePenalty = -1e6
+
+func logLik(si SerialInterval, values, counts []int) float64 {
+	ll := 0.0
+	for i, v := range values {
+		if counts[i] == 0 {
+			continue
+		}
+		m := si.DailyMass(v)
+		if !(m > 0) {
+			ll += float64(counts[i]) * impossiblePenalty
+			continue
+		}
+		ll += float64(counts[i]) * math.Log(m)
+	}
+	return ll
+}
+
+// family describes one parametric serial-interval family on the optimiser's scale θ.
+type family struct {
+	name  string
+	lo    [2]float64 // search box on θ, wide enough for any serial interval in days
+	hi    [2]float64
+	build func(th [2]float64) SerialInterval
+	start func(t intervalTable) [2]float64
+}
+
+func families() []family {
+	return []family{
+		{
+			name: NameGamma,
+			lo:   [2]float64{-7, -15}, hi: [2]float64{12, 15},
+			build: func(th [2]float64) SerialInterval {
+				return GammaInterval{Shape: math.Exp(th[0]), Rate: math.Exp(th[1])}
+			},
+			start: func(t intervalTable) [2]float64 {
+				m, v := momentStart(t)
+				return [2]float64{math.Log(m * m / v), math.Log(m / v)}
+			},
+		},
+		{
+			name: NameLogNormal,
+			lo:   [2]float64{-15, -8}, hi: [2]float64{15, 3},
+			build: func(th [2]float64) SerialInterval {
+				return LogNormalInterval{MeanLog: th[0], SDLog: math.Exp(th[1])}
+			},
+			start: func(t intervalTable) [2]float64 {
+				m, v := momentStart(t)
+				s2 := math.Log1p(v / (m * m))
+				return [2]float64{math.Log(m) - s2/2, 0.5 * math.Log(s2)}
+			},
+		},
+		{
+			name: NameWeibull,
+			// Shape ≥ e^−4 keeps Γ(1 + 2/k) finite.
+			lo: [2]float64{-4, -15}, hi: [2]float64{5, 15},
+			build: func(th [2]float64) SerialInterval {
+				return WeibullInterval{Shape: math.Exp(th[0]), Scale: math.Exp(th[1])}
+			},
+			start: func(t intervalTable) [2]float64 {
+				m, v := momentStart(t)
+				lk := weibullLogShape(1 + v/(m*m))
+				lg, _ := math.Lgamma(1 + math.Exp(-lk))
+				return [2]float64{lk, math.Log(m) - lg}
+			},
+		},
+	}
+}
+
+// momentStart is the sample mean and Sheppard-corrected variance, floored away from 0.
+func momentStart(t intervalTable) (mean, variance float64) {
+	m, v := t.moments()
+	m = math.Max(m, 0.25)
+	v = math.Max(v-1.0/12, math.Max(0.01*m*m, 1e-3))
+	return m, v
+}
+
+// weibullLogShape solves Γ(1 + 2/k)/Γ(1 + 1/k)² = ratio (= 1 + CV²) for log k by bisection;
+// the ratio decreases in k.
+func weibullLogShape(ratio float64) float64 {
+	r := func(lk float64) float64 {
+		k := math.Exp(lk)
+		l2, _ := math.Lgamma(1 + 2/k)
+		l1, _ := math.Lgamma(1 + 1/k)
+		return l2 - 2*l1
+	}
+	target := math.Log(ratio)
+	lo, hi := -4.0, 5.0
+	for i := 0; i < 100; i++ {
+		mid := (lo + hi) / 2
+		if r(mid) > target {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
+}
+
+func clampBox(fam family, th [2]float64) (c [2]float64, dist2 float64) {
+	for i := range th {
+		c[i] = math.Min(math.Max(th[i], fam.lo[i]), fam.hi[i])
+		d := th[i] - c[i]
+		dist2 += d * d
+	}
+	return c, dist2
+}
+
+// objective is −log L at θ clamped into the box, plus a quadratic penalty for leaving it,
+// so the optimiser sees a continuous function on all of ℝ².
+func objective(fam family, tab intervalTable, th [2]float64) float64 {
+	c, d2 := clampBox(fam, th)
+	return -logLik(fam.build(c), tab.values, tab.counts) + 1e4*d2
+}
+
+func fitFamily(fam family, tab intervalTable, start [2]float64) (ModelFit, [2]float64, error) {
+	th := minimise(fam, tab, start)
+	si := fam.build(th)
+	ll := logLik(si, tab.values, tab.counts)
+	mf := ModelFit{
+		Name: fam.name, Mean: si.Mean(), SD: si.SD(), Params: si.Params(),
+		LogLik: ll, AIC: 2*2 - 2*ll, Dist: si,
+	}
+	v := tab.values
+	mf.Degenerate = len(v) == 1 || (len(v) == 2 && v[1]-v[0] == 1)
+	for i := range th {
+		if th[i]-fam.lo[i] < 1e-6 || fam.hi[i]-th[i] < 1e-6 {
+			mf.AtBound = true
+		}
+	}
+	if !finite(mf.Mean) || !finite(mf.SD) || !finite(mf.LogLik) || ll <= impossiblePenalty {
+		return ModelFit{}, th, fmt.Errorf("serial interval: %s fit did not reach a finite optimum", fam.name)
+	}
+	return mf, th, nil
+}
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// minimise runs Nelder–Mead from start, then Newton polishing, and returns the optimum
+// clamped into the box.
+func minimise(fam family, tab intervalTable, start [2]float64) [2]float64 {
+	start, _ = clampBox(fam, start)
+	f := func(x [2]float64) float64 { return objective(fam, tab, x) }
+	th := nelderMead(f, start, 0.1, 1e-12, 2000)
+	th = newtonPolish(fam, tab, th)
+	th, _ = clampBox(fam, th)
+	return th
+}
+
+// nelderMead minimises f on ℝ² with the standard coefficients (reflection 1, expansion 2,
+// contraction 1/2, shrink 1/2) [Nelder & Mead 1965, Comput J 7:308; Lagarias et al. 1998,
+// SIAM J Optim 9:112]. It stops when the simplex's function values agree to ftol
+// (absolute plus relative) or after maxIter iterations. Written here rather than taken
+// from gonum/optimize because that package pulls in golang.org/x/tools, which the module
+// does not carry.
+func nelderMead(f func([2]float64) float64, x0 [2]float64, step, ftol float64, maxIter int) [2]float64 {
+	var x [3][2]float64
+	var fx [3]float64
+	x[0] = x0
+	x[1] = [2]float64{x0[0] + step, x0[1]}
+	x[2] = [2]float64{x0[0], x0[1] + step}
+	for i := range x {
+		fx[i] = f(x[i])
+	}
+	lin := func(a, b [2]float64, t float64) [2]float64 { // a + t(b − a)
+		return [2]float64{a[0] + t*(b[0]-a[0]), a[1] + t*(b[1]-a[1])}
+	}
+	for iter := 0; iter < maxIter; iter++ {
+		// Order: x[0] best, x[2] worst.
+		for i := 1; i < 3; i++ {
+			for j := i; j > 0 && fx[j] < fx[j-1]; j-- {
+				x[j], x[j-1] = x[j-1], x[j]
+				fx[j], fx[j-1] = fx[j-1], fx[j]
+			}
+		}
+		if math.Abs(fx[2]-fx[0]) <= ftol*(1+math.Abs(fx[0])) {
+			break
+		}
+		c := [2]float64{(x[0][0] + x[1][0]) / 2, (x[0][1] + x[1][1]) / 2}
+		xr := lin(c, x[2], -1)
+		fr := f(xr)
+		switch {
+		case fr < fx[0]:
+			xe := lin(c, x[2], -2)
+			if fe := f(xe); fe < fr {
+				x[2], fx[2] = xe, fe
+			} else {
+				x[2], fx[2] = xr, fr
+			}
+		case fr < fx[1]:
+			x[2], fx[2] = xr, fr
+		default:
+			var xc [2]float64
+			if fr < fx[2] {
+				xc = lin(c, xr, 0.5) // outside contraction
+			} else {
+				xc = lin(c, x[2], 0.5) // inside contraction
+			}
+			if fc := f(xc); fc < math.Min(fr, fx[2]) {
+				x[2], fx[2] = xc, fc
+				continue
+			}
+			for i := 1; i < 3; i++ { // shrink towards the best vertex
+				x[i] = lin(x[0], x[i], 0.5)
+				fx[i] = f(x[i])
+			}
+		}
+	}
+	best := 0
+	for i := range fx {
+		if fx[i] < fx[best] {
+			best = i
+		}
+	}
+	return x[best]
+}
+
+// newtonPolish takes Newton steps with a central-difference gradient and Hessian, with
+// step halving, until the step is negligible. Nelder–Mead stops on function changes;
+// this pins the parameters down to the precision the reference comparison needs.
+func newtonPolish(fam family, tab intervalTable, th [2]float64) [2]float64 {
+	f := func(x [2]float64) float64 { return objective(fam, tab, x) }
+	const h = 1e-4
+	f0 := f(th)
+	for iter := 0; iter < 30; iter++ {
+		var g [2]float64
+		var hs [2][2]float64
+		for i := 0; i < 2; i++ {
+			p, m := th, th
+			p[i] += h
+			m[i] -= h
+			fp, fm := f(p), f(m)
+			g[i] = (fp - fm) / (2 * h)
+			hs[i][i] = (fp - 2*f0 + fm) / (h * h)
+		}
+		pp, pm, mp, mm := th, th, th, th
+		pp[0], pp[1] = th[0]+h, th[1]+h
+		pm[0], pm[1] = th[0]+h, th[1]-h
+		mp[0], mp[1] = th[0]-h, th[1]+h
+		mm[0], mm[1] = th[0]-h, th[1]-h
+		hs[0][1] = (f(pp) - f(pm) - f(mp) + f(mm)) / (4 * h * h)
+		hs[1][0] = hs[0][1]
+		det := hs[0][0]*hs[1][1] - hs[0][1]*hs[1][0]
+		if !(hs[0][0] > 0 && det > 0) || !finite(det) {
+			return th
+		}
+		step := [2]float64{
+			-(hs[1][1]*g[0] - hs[0][1]*g[1]) / det,
+			-(-hs[1][0]*g[0] + hs[0][0]*g[1]) / det,
+		}
+		improved := false
+		for half := 0; half < 30; half++ {
+			cand := [2]float64{th[0] + step[0], th[1] + step[1]}
+			if fc := f(cand); fc <= f0 {
+				th, f0, improved = cand, fc, true
+				break
+			}
+			step[0], step[1] = step[0]/2, step[1]/2
+		}
+		if !improved || math.Max(math.Abs(step[0]), math.Abs(step[1])) < 1e-11 {
+			return th
+		}
+	}
+	return th
+}
+
+// bootstrapFits refits fam to B case-bootstrap replicates of tab. Replicate b draws from
+// its own PCG stream seeded from rng before any work starts, so results do not depend on
+// the number of workers or their scheduling.
+func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers int, rng *rand.Rand) (means, p95s []float64, failed int) {
+	seeds := make([][2]uint64, b)
+	for i := range seeds {
+		seeds[i] = [2]uint64{rng.Uint64(), rng.Uint64()}
+	}
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	workers = min(workers, b)
+	mean := make([]float64, b)
+	p95 := make([]float64, b)
+	ok := make([]bool, b)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			counts := make([]int, len(tab.counts))
+			for i := w; i < b; i += workers {
+				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))
+				multinomialResample(r, tab, counts)
+				rep := intervalTable{values: tab.values, counts: counts, n: tab.n}
+				th := minimise(fam, rep, start)
+				si := fam.build(th)
+				mean[i], p95[i] = si.Mean(), si.Quantile(0.95)
+				ok[i] = finite(mean[i]) && finite(p95[i])
+			}
+		}(w)
+	}
+	wg.Wait()
+	for i := range ok {
+		if ok[i] {
+			means = append(means, mean[i])
+			p95s = append(p95s, p95[i])
+		} else {
+			failed++
+		}
+	}
+	return means, p95s, failed
+}
+
+// multinomialResample draws counts ~ Multinomial(n, counts/n) by conditional binomials:
+// resampling n intervals with replacement, in O(distinct intervals) (DOMAIN.md §6).
+func multinomialResample(r *rand.Rand, tab intervalTable, dst []int) {
+	rem, remMass := tab.n, tab.n
+	for i, c := range tab.counts {
+		switch {
+		case rem == 0:
+			dst[i] = 0
+		case c >= remMass:
+			dst[i] = rem
+		default:
+			p := float64(c) / float64(remMass)
+			dst[i] = int(distuv.Binomial{N: float64(rem), P: p, Src: r}.Rand())
+		}
+		rem -= dst[i]
+		remMass -= c
+	}
+}
+
+// quantile7 is the linear-interpolation sample quantile, type 7 of Hyndman & Fan 1996
+// (Am Stat 50:361), R's default. It sorts a copy of xs.
+func quantile7(xs []float64, p float64) float64 {
+	s := slices.Clone(xs)
+	slices.Sort(s)
+	h := float64(len(s)-1) * p
+	lo := math.Floor(h)
+	i := int(lo)
+	if i+1 >= len(s) {
+		return s[len(s)-1]
+	}
+	return s[i] + (h-lo)*(s[i+1]-s[i])
+}
