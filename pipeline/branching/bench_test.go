@@ -1,0 +1,112 @@
+package branching
+
+import (
+	"math/rand/v2"
+	"testing"
+
+	"github.com/caseweave/caseweave/pipeline/offspring"
+	"gonum.org/v1/gonum/dsp/fourier"
+)
+
+func BenchmarkDecodeCircle65536(b *testing.B) {
+	const M = 1 << 16
+	vals := evalMixture([]offspring.Distribution{offspring.NegBin{R: 1.5, K: 0.3}}, 5, 1, M)[0]
+	fft := fourier.NewCmplxFFT(M)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		decodeCircle(fft, vals, M, dampingDigits, M/2)
+	}
+}
+
+func BenchmarkGenerationSizesNegBin(b *testing.B) {
+	d := offspring.NegBin{R: 1.5, K: 0.3}
+	for i := 0; i < b.N; i++ {
+		if _, err := GenerationSizes(d, 5, 5); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkExtinctionNegBin(b *testing.B) {
+	d := offspring.NegBin{R: 2.5, K: 0.1}
+	for i := 0; i < b.N; i++ {
+		if _, err := ExtinctionProbability(d); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkExtinctionNearCritical(b *testing.B) {
+	d := offspring.Poisson{R: 1 + 1e-6}
+	for i := 0; i < b.N; i++ {
+		if _, err := ExtinctionProbability(d); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkProject2000Replicates(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	reps := make([]offspring.Distribution, 2000)
+	for i := range reps {
+		reps[i] = offspring.NegBin{R: 0.9 + 0.4*rng.Float64(), K: 0.2 + 0.3*rng.Float64()}
+	}
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Project(reps, 10, 4); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkEndOfOutbreakMillionDays(b *testing.B) {
+	// 10^6 cases spread over 1000 onset days, horizon 60.
+	rng := rand.New(rand.NewPCG(3, 4))
+	onsets := make([]int, 1_000_000)
+	for i := range onsets {
+		onsets[i] = rng.IntN(1000)
+	}
+	F := gammaCDF(2.5, 0.5)
+	d := offspring.NegBin{R: 0.8, K: 0.3}
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := EndOfOutbreak(onsets, d, F, 1000, 60); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkEndOfOutbreakMillionDistinctDays(b *testing.B) {
+	// 10^6 distinct onset days (the worst case for the grouping), horizon 60.
+	onsets := make([]int, 1_000_000)
+	for i := range onsets {
+		onsets[i] = i
+	}
+	F := gammaCDF(2.5, 0.5)
+	d := offspring.Poisson{R: 0.8}
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := EndOfOutbreak(onsets, d, F, 1_000_000, 60); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkChainSizesLagrangeList(b *testing.B) {
+	d := offspring.Empirical{P: []float64{0.4, 0.3, 0.2, 0.05, 0.05}}
+	for i := 0; i < b.N; i++ {
+		if _, err := ChainSizesLagrange(d, 10000); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkFitChainSizes(b *testing.B) {
+	obs := simulateClusters(offspring.NegBin{R: 0.6, K: 0.3}, 500, 500, 1)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := FitChainSizes(obs); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -1,0 +1,313 @@
+package branching
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+	"sync"
+)
+
+// ChainObservation is one observed transmission chain (cluster).
+type ChainObservation struct {
+	// Size is the number of cases in the cluster, root included (≥ 1).
+	Size int `json:"size"`
+	// Censored marks a cluster that may still grow: it contributes P(Y ≥ Size).
+	Censored bool `json:"censored"`
+}
+
+// ChainFit is a maximum-likelihood fit of the negative binomial chain-size model.
+type ChainFit struct {
+	R float64 `json:"R"`
+	// K is nil in the Poisson limit (k → ∞, Borel chain sizes) and when R = 0.
+	K *float64 `json:"k"`
+	// PoissonLimit is set when the negative binomial does not improve on Poisson offspring.
+	PoissonLimit bool    `json:"poisson_limit"`
+	LogLik       float64 `json:"log_likelihood"`
+	Clusters     int     `json:"clusters"`
+	Censored     int     `json:"censored"`
+}
+
+// Thresholds of the Poisson-limit decision (common practice: k beyond 1000 is
+// indistinguishable from Poisson at outbreak sample sizes, and a log-likelihood gain below
+// 1e−6 is no gain).
+const (
+	poissonLimitK    = 1e3
+	poissonLimitGain = 1e-6
+	maxFittedR       = 100
+)
+
+type chainClass struct {
+	size     int
+	censored bool
+	count    int
+}
+
+type chainTable struct {
+	classes   []chainClass
+	maxCens   int
+	n, nCens  int
+	allOnes   bool
+	meanSize  float64
+	allCensor bool
+}
+
+func tabulateChains(obs []ChainObservation) (chainTable, error) {
+	var t chainTable
+	if len(obs) == 0 {
+		return t, fmt.Errorf("branching: no clusters to fit")
+	}
+	m := map[chainClass]int{}
+	t.allOnes, t.allCensor = true, true
+	total := 0
+	for i, o := range obs {
+		if o.Size < 1 {
+			return t, fmt.Errorf("branching: cluster %d has size %d: a cluster has at least one case", i+1, o.Size)
+		}
+		if o.Size > MaxChainSize {
+			return t, fmt.Errorf("branching: cluster %d has size %d, above the limit %d", i+1, o.Size, MaxChainSize)
+		}
+		m[chainClass{size: o.Size, censored: o.Censored}]++
+		if o.Censored {
+			t.nCens++
+			t.maxCens = max(t.maxCens, o.Size)
+		} else {
+			t.allCensor = false
+		}
+		if o.Size > 1 || o.Censored {
+			t.allOnes = false
+		}
+		total += o.Size
+	}
+	for c, n := range m {
+		c.count = n
+		t.classes = append(t.classes, c)
+	}
+	sort.Slice(t.classes, func(i, j int) bool {
+		a, b := t.classes[i], t.classes[j]
+		if a.size != b.size {
+			return a.size < b.size
+		}
+		return !a.censored && b.censored
+	})
+	t.n = len(obs)
+	t.meanSize = float64(total) / float64(t.n)
+	return t, nil
+}
+
+// chainLogLik is the log-likelihood of the table under NB(R, k) chain sizes, or Borel when
+// k is +Inf: Σ log P(Y = y) over complete clusters plus Σ log P(Y ≥ y) over censored ones,
+// P(Y ≥ y) = 1 − Σ_{j<y} P(Y = j) [Blumberg & Lloyd-Smith 2013]. When that difference
+// cancels badly (R < 1 and a tail below 1e−8) the tail is summed directly instead.
+func chainLogLik(t *chainTable, R, k float64) float64 {
+	logp := func(y int) float64 {
+		if math.IsInf(k, 1) {
+			return ChainSizeLogPMFBorel(R, y)
+		}
+		return ChainSizeLogPMFNegBin(R, k, y)
+	}
+	ll := 0.0
+	var cum neumaier
+	next := 1 // cum holds Σ_{j<next} P(Y = j)
+	for _, c := range t.classes {
+		if !c.censored {
+			ll += float64(c.count) * logp(c.size)
+			continue
+		}
+		for ; next < c.size; next++ {
+			cum.add(math.Exp(logp(next)))
+		}
+		tail := 1 - cum.sum()
+		if tail < 1e-8 && R < 1 {
+			var s neumaier
+			for j := c.size; j < c.size+1_000_000; j++ {
+				p := math.Exp(logp(j))
+				s.add(p)
+				if p < 1e-17*s.sum() {
+					break
+				}
+			}
+			tail = s.sum()
+		}
+		ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
+	}
+	return ll
+}
+
+// FitChainSizes fits the negative binomial offspring model to cluster sizes alone by maximum
+// likelihood [Blumberg & Lloyd-Smith 2013, PLoS Comput Biol 9:e1002993], censored clusters
+// contributing P(Y ≥ y). The search runs Nelder–Mead [Nelder & Mead 1965] on (log R, log k),
+// so the positivity bounds hold without a bounded optimiser, from several starts. The Borel (Poisson) model is
+// fitted too; when the negative binomial k exceeds 1000 or gains less than 1e−6 in
+// log-likelihood over it, the Poisson limit is reported: R from the Borel fit and K nil.
+// Every cluster of size 1 and complete gives R = 0 (K nil). All clusters censored, or an R
+// estimate running above 100, has no useful maximum and is an error.
+func FitChainSizes(obs []ChainObservation) (*ChainFit, error) {
+	t, err := tabulateChains(obs)
+	if err != nil {
+		return nil, err
+	}
+	return fitTable(&t)
+}
+
+func fitTable(t *chainTable) (*ChainFit, error) {
+	fit := &ChainFit{Clusters: t.n, Censored: t.nCens}
+	if t.allOnes {
+		fit.R, fit.PoissonLimit = 0, true
+		return fit, nil
+	}
+	if t.allCensor {
+		return nil, fmt.Errorf("branching: every cluster is censored: the chain-size likelihood has no finite maximum")
+	}
+	r0 := math.Min(0.95, math.Max(0.05, 1-1/t.meanSize))
+	nll := func(x []float64) float64 {
+		R := math.Exp(x[0])
+		k := math.Inf(1)
+		if len(x) == 2 {
+			k = math.Exp(x[1])
+		}
+		if R > 1e3 || k < 1e-8 || (len(x) == 2 && k > 1e10) {
+			return 1e300
+		}
+		v := -chainLogLik(t, R, k)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 1e300
+		}
+		return v
+	}
+	// Borel fit (one parameter).
+	bestB := math.Inf(1)
+	var rB float64
+	for _, r := range []float64{r0, 0.5 * r0, math.Min(1.5, 2*r0)} {
+		x, v := nelderMead(nll, []float64{math.Log(r)}, 0.3, 1e-12, 1e-7, 2000)
+		if v < bestB {
+			bestB, rB = v, math.Exp(x[0])
+		}
+	}
+	if math.IsInf(bestB, 1) {
+		return nil, fmt.Errorf("branching: the Borel chain-size fit failed")
+	}
+	// Negative binomial fit.
+	bestN := math.Inf(1)
+	var rN, kN float64
+	for _, st := range [][2]float64{{r0, 0.1}, {r0, 1}, {r0, 10}, {rB, poissonLimitK}} {
+		x, v := nelderMead(nll, []float64{math.Log(st[0]), math.Log(st[1])}, 0.5, 1e-12, 1e-7, 4000)
+		if v < bestN {
+			bestN, rN, kN = v, math.Exp(x[0]), math.Exp(x[1])
+		}
+	}
+	if kN >= poissonLimitK || math.IsInf(bestN, 1) || bestB-bestN < poissonLimitGain {
+		fit.R, fit.PoissonLimit, fit.LogLik = rB, true, -bestB
+	} else {
+		fit.R, fit.K, fit.LogLik = rN, &kN, -bestN
+	}
+	if fit.R > maxFittedR {
+		return nil, fmt.Errorf("branching: the fitted R runs above %d: the clusters carry no finite estimate (too many censored?)", maxFittedR)
+	}
+	return fit, nil
+}
+
+// ChainBootstrap holds cluster-bootstrap replicates of a chain-size fit and their
+// percentile intervals.
+type ChainBootstrap struct {
+	Replicates int     `json:"replicates"`
+	Level      float64 `json:"level"`
+	RLo        float64 `json:"R_lo"`
+	RHi        float64 `json:"R_hi"`
+	// KLo and KHi are nil when the bound lies in the Poisson limit (k = ∞).
+	KLo *float64 `json:"k_lo"`
+	KHi *float64 `json:"k_hi"`
+	// PoissonLimit counts replicates whose fit hit the Poisson limit; Failed counts
+	// replicates whose fit failed (left out of the intervals).
+	PoissonLimit int `json:"poisson_limit_replicates"`
+	Failed       int `json:"failed_replicates"`
+	// R and K are the per-replicate estimates (K = +Inf in the Poisson limit; NaN when
+	// failed). They are not serialised.
+	R []float64 `json:"-"`
+	K []float64 `json:"-"`
+}
+
+// replicateRand returns the PCG stream of bootstrap replicate b: seeded by (seed,
+// splitmix64(b)), so each replicate's draws depend only on (seed, b), never on which worker
+// ran it (splitmix64 scrambles consecutive b; Steele, Lea & Flood 2014).
+func replicateRand(seed uint64, b int) *rand.Rand {
+	z := uint64(b) + 0x9e3779b97f4a7c15
+	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9
+	z = (z ^ (z >> 27)) * 0x94d049bb133111eb
+	z ^= z >> 31
+	return rand.New(rand.NewPCG(seed, z))
+}
+
+// BootstrapChainFit refits the chain-size model to B cluster-bootstrap resamples (whole
+// clusters drawn with replacement, which respects dependence within chains; DOMAIN.md §6)
+// and returns percentile intervals at `level` [Efron & Tibshirani 1993, ch. 13] using
+// Hyndman–Fan type 7 quantiles. Replicate b draws from its own PCG stream derived from
+// (seed, b) and the replicates run on `workers` goroutines (< 1 means 1); the result does
+// not depend on the number of workers.
+func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64, workers int) (*ChainBootstrap, error) {
+	if B < 1 || B > 1_000_000 {
+		return nil, fmt.Errorf("branching: %d bootstrap replicates: the number must be in 1..1000000", B)
+	}
+	if !(level > 0 && level < 1) {
+		return nil, fmt.Errorf("branching: interval level %v must be strictly between 0 and 1", level)
+	}
+	if _, err := tabulateChains(obs); err != nil {
+		return nil, err
+	}
+	workers = max(1, min(workers, B))
+	out := &ChainBootstrap{Replicates: B, Level: level, R: make([]float64, B), K: make([]float64, B)}
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			sample := make([]ChainObservation, len(obs))
+			for b := range jobs {
+				rng := replicateRand(seed, b)
+				for i := range sample {
+					sample[i] = obs[rng.IntN(len(obs))]
+				}
+				out.R[b], out.K[b] = math.NaN(), math.NaN()
+				t, err := tabulateChains(sample)
+				if err != nil {
+					continue
+				}
+				f, err := fitTable(&t)
+				if err != nil {
+					continue
+				}
+				out.R[b], out.K[b] = f.R, math.Inf(1)
+				if f.K != nil {
+					out.K[b] = *f.K
+				}
+			}
+		}()
+	}
+	for b := 0; b < B; b++ {
+		jobs <- b
+	}
+	close(jobs)
+	wg.Wait()
+	var rs, ks []float64
+	for b := 0; b < B; b++ {
+		if math.IsNaN(out.R[b]) {
+			out.Failed++
+			continue
+		}
+		if math.IsInf(out.K[b], 1) {
+			out.PoissonLimit++
+		}
+		rs = append(rs, out.R[b])
+		ks = append(ks, out.K[b])
+	}
+	if len(rs) == 0 {
+		return nil, fmt.Errorf("branching: every bootstrap replicate failed to fit")
+	}
+	sort.Float64s(rs)
+	sort.Float64s(ks)
+	lo, hi := (1-level)/2, (1+level)/2
+	out.RLo, out.RHi = quantileSorted(rs, lo), quantileSorted(rs, hi)
+	out.KLo, out.KHi = finitePtr(quantileSorted(ks, lo)), finitePtr(quantileSorted(ks, hi))
+	return out, nil
+}
