@@ -27,6 +27,7 @@ type estimateFlags struct {
 	generations int
 	serialFixed string
 	workers     int
+	infer       bool
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -40,6 +41,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.StringVar(&f.unit, "unit", analysis.UnitCase, "bootstrap unit: case, or cluster (resample whole transmission chains)")
 	fl.IntVar(&f.generations, "generations", 4, "generations to project")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
+	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
 
@@ -48,6 +50,7 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 	o := analysis.Options{
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
+		InferMissing: f.infer,
 	}
 	if c.Flags().Changed("censor-days") {
 		if f.censorDays < 0 {

@@ -31,7 +31,10 @@ type Options struct {
 	Progress func(done, total int)
 	// SerialFixed, if set, is an agreed gamma serial interval (mean, sd in days) used instead
 	// of fitting one.
-	SerialFixed   *[2]float64
+	SerialFixed *[2]float64
+	// InferMissing assigns infectors to unlinked, non-imported cases by Wallinga–Teunis
+	// weights, afresh in every bootstrap replicate.
+	InferMissing  bool
 	Generations   int     // generations projected (default 4)
 	Share         float64 // target share of transmission (default 0.8)
 	SuppressBelow int     // stratified counts below this are suppressed (default 5)
@@ -64,6 +67,9 @@ const (
 	projectionReplicates = 400
 	// serialBootstrap is the number of replicates behind the serial interval's intervals.
 	serialBootstrap = 500
+	// chainReplicates caps the cluster bootstrap of the chain-size fit, whose every
+	// replicate is a two-parameter numerical maximisation.
+	chainReplicates = 500
 	treesShown      = 6
 	nodesPerTree    = 120
 	eooHorizon      = 60
@@ -145,6 +151,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	}
 	a.serialInterval()
 	a.censorWindow()
+	a.inferMissing()
 	a.offspring()
 	a.outlook()
 	a.endOfOutbreak()
@@ -169,6 +176,9 @@ type run struct {
 	serial   timing.SerialInterval // nil when none
 	fit      *offspring.ModelFit   // negative binomial fit behind the outlook
 	boot     *offspring.BootstrapResult
+	infer    *timing.Infectors // nil unless missing infectors are inferred
+	expected []float64         // expected inferred offspring per case
+	counts   []int32           // the offspring counts the estimates use
 }
 
 func (a *run) note(format string, args ...any) {
@@ -330,13 +340,20 @@ func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
 			censored++
 			continue
 		}
-		m[int(a.f.Offspring[i])]++
+		m[int(a.counts[i])]++
 		used = append(used, i)
 	}
 	return offspring.FromMap(m), used, censored
 }
 
 func (a *run) offspring() {
+	a.counts = a.f.Offspring
+	if a.infer != nil {
+		// The model table and the empirical views use one imputed assignment, seeded.
+		a.counts = a.recount(a.infer.Sample(a.rng(streamImpute), nil), nil)
+		a.note("%d missing infectors were inferred by Wallinga–Teunis weights (%d cases had no candidate); the offspring table shows one imputed assignment, and every bootstrap replicate draws a fresh one.",
+			a.s.InferredLinks.Inferred, a.s.InferredLinks.NoCandidate)
+	}
 	t, used, censored := a.offspringTable()
 	o := &Offspring{
 		N: t.N(), Censored: censored, CensorDays: a.w, Mean: t.Mean(), Variance: t.Variance(),
@@ -377,13 +394,18 @@ func (a *run) offspring() {
 	}
 	o.PoissonLimit = a.fit.PoissonLimit()
 
-	sample := offspring.Sample{Cases: t}
-	if a.o.Unit == UnitCluster {
-		sample = offspring.Sample{Clusters: a.clusterTables(used)}
+	var boot *offspring.BootstrapResult
+	if a.infer != nil {
+		boot, err = a.imputedBootstrap(used)
+	} else {
+		sample := offspring.Sample{Cases: t}
+		if a.o.Unit == UnitCluster {
+			sample = offspring.Sample{Clusters: a.clusterTablesOf(a.counts, used)}
+		}
+		boot, err = offspring.Bootstrap(sample, offspring.BootstrapOptions{
+			Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
+		})
 	}
-	boot, err := offspring.Bootstrap(sample, offspring.BootstrapOptions{
-		Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
-	})
 	if err != nil {
 		a.note("The bootstrap failed: %v.", err)
 		a.s.Offspring = o
@@ -404,7 +426,7 @@ func (a *run) offspring() {
 	o.ShareCausing80pctObserved = finite(offspring.ObservedShare(t, a.o.Share))
 	o.SSEThreshold = offspring.SuperspreadingThreshold(a.fit.R)
 	for _, i := range used {
-		if int(a.f.Offspring[i]) > o.SSEThreshold {
+		if int(a.counts[i]) > o.SSEThreshold {
 			o.Superspreaders = append(o.Superspreaders, a.cases[i].ID)
 		}
 	}
@@ -415,15 +437,15 @@ func (a *run) offspring() {
 	a.s.Offspring = o
 }
 
-// clusterTables gives one frequency table per tree, over the tree's used cases.
-func (a *run) clusterTables(used []int32) []offspring.FreqTable {
+// clusterTablesOf gives one frequency table of counts per tree, over the tree's used cases.
+func (a *run) clusterTablesOf(counts []int32, used []int32) []offspring.FreqTable {
 	per := map[int32]map[int]int{}
 	for _, i := range used {
 		c := a.f.Cluster[i]
 		if per[c] == nil {
 			per[c] = map[int]int{}
 		}
-		per[c][int(a.f.Offspring[i])]++
+		per[c][int(counts[i])]++
 	}
 	ids := make([]int32, 0, len(per))
 	for c := range per {
@@ -472,7 +494,7 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 		return nil
 	}
 	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true}
-	bs, err := branching.BootstrapChainFit(obs, min(a.o.Replicates, 1000), a.o.Level, a.o.Seed+streamChain, a.o.Workers)
+	bs, err := branching.BootstrapChainFit(obs, min(a.o.Replicates, chainReplicates), a.o.Level, a.o.Seed+streamChain, a.o.Workers)
 	if err != nil {
 		a.note("No intervals for the chain-size fit: %v.", err)
 		return out
@@ -648,6 +670,9 @@ func (a *run) weekly() {
 	for k, i := range a.selected {
 		onsets[k] = a.cases[i].Onset
 		off[k] = float64(a.f.Offspring[i])
+		if a.expected != nil {
+			off[k] += a.expected[i]
+		}
 	}
 	k := 0.0 // let WeeklyR estimate it
 	if a.fit != nil {

@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"sort"
 	"sync"
+
+	"github.com/caseweave/caseweave/pipeline/offspring"
 )
 
 // ChainObservation is one observed transmission chain (cluster).
@@ -44,6 +46,8 @@ type chainClass struct {
 }
 
 type chainTable struct {
+	// lgy1[y] = log Γ(y + 1), cached for the sizes the likelihood visits.
+	lgy1      []float64
 	classes   []chainClass
 	maxCens   int
 	n, nCens  int
@@ -92,7 +96,21 @@ func tabulateChains(obs []ChainObservation) (chainTable, error) {
 	})
 	t.n = len(obs)
 	t.meanSize = float64(total) / float64(t.n)
+	top := t.classes[len(t.classes)-1].size
+	t.lgy1 = make([]float64, top+2)
+	for y := range t.lgy1 {
+		t.lgy1[y], _ = math.Lgamma(float64(y) + 1)
+	}
 	return t, nil
+}
+
+// lgammaY1 is log Γ(y + 1), from the cache when y is within it.
+func (t *chainTable) lgammaY1(y int) float64 {
+	if y < len(t.lgy1) {
+		return t.lgy1[y]
+	}
+	v, _ := math.Lgamma(float64(y) + 1)
+	return v
 }
 
 // chainLogLik is the log-likelihood of the table under NB(R, k) chain sizes, or Borel when
@@ -100,11 +118,35 @@ func tabulateChains(obs []ChainObservation) (chainTable, error) {
 // P(Y ≥ y) = 1 − Σ_{j<y} P(Y = j) [Blumberg & Lloyd-Smith 2013]. When that difference
 // cancels badly (R < 1 and a tail below 1e−8) the tail is summed directly instead.
 func chainLogLik(t *chainTable, R, k float64) float64 {
-	logp := func(y int) float64 {
-		if math.IsInf(k, 1) {
-			return ChainSizeLogPMFBorel(R, y)
+	logp := func(y int) float64 { return ChainSizeLogPMFBorel(R, y) }
+	if !math.IsInf(k, 1) && R > 0 {
+		// ChainSizeLogPMFNegBin with its (R, k)-only terms hoisted out of the loop: this
+		// likelihood runs inside every Nelder–Mead step of every bootstrap replicate.
+		lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
+		logp = func(y int) float64 {
+			fy := float64(y)
+			a, _ := math.Lgamma(k*fy + fy - 1)
+			b, _ := math.Lgamma(k * fy)
+			return a - b - t.lgammaY1(y) + (fy-1)*lrk - (k*fy+fy-1)*l1rk
 		}
-		return ChainSizeLogPMFNegBin(R, k, y)
+	} else if !math.IsInf(k, 1) {
+		logp = func(y int) float64 { return ChainSizeLogPMFNegBin(R, k, y) }
+	}
+	// q is the extinction probability, the total mass of finite chains (DOMAIN.md §4),
+	// computed only when a large censored cluster needs it.
+	q := math.NaN()
+	extinction := func() float64 {
+		if math.IsNaN(q) {
+			var d offspring.Distribution = offspring.Poisson{R: R}
+			if !math.IsInf(k, 1) {
+				d = offspring.NegBin{R: R, K: k}
+			}
+			var err error
+			if q, err = ExtinctionProbability(d); err != nil {
+				q = 1
+			}
+		}
+		return q
 	}
 	ll := 0.0
 	var cum neumaier
@@ -113,6 +155,14 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 		if !c.censored {
 			ll += float64(c.count) * logp(c.size)
 			continue
+		}
+		if c.size > largeCensoredCluster {
+			// P(Y ≥ y) = (1 − q) + Σ_{j≥y} P(Y = j): for a large y the sum from y up usually
+			// converges in far fewer terms than the y − 1 terms below it.
+			if tail, ok := upperTail(logp, c.size, 1-extinction()); ok {
+				ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
+				continue
+			}
 		}
 		for ; next < c.size; next++ {
 			cum.add(math.Exp(logp(next)))
@@ -134,6 +184,24 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 	return ll
 }
 
+// largeCensoredCluster is the size above which chainLogLik first tries the upper tail.
+const largeCensoredCluster = 200
+
+// upperTail returns base + Σ_{j≥y} exp(logp(j)), summed until a term falls below 1e-14 of
+// the total (a log-likelihood needs no more), and false when that would take more terms
+// than the y/2 that the sum from below costs (a tail that decays slowly, as near R = 1).
+func upperTail(logp func(int) float64, y int, base float64) (float64, bool) {
+	var s neumaier
+	for j := y; j < y+y/2; j++ {
+		p := math.Exp(logp(j))
+		s.add(p)
+		if p <= 1e-14*(base+s.sum()) {
+			return base + s.sum(), true
+		}
+	}
+	return 0, false
+}
+
 // FitChainSizes fits the negative binomial offspring model to cluster sizes alone by maximum
 // likelihood [Blumberg & Lloyd-Smith 2013, PLoS Comput Biol 9:e1002993], censored clusters
 // contributing P(Y ≥ y). The search runs Nelder–Mead [Nelder & Mead 1965] on (log R, log k),
@@ -147,10 +215,21 @@ func FitChainSizes(obs []ChainObservation) (*ChainFit, error) {
 	if err != nil {
 		return nil, err
 	}
-	return fitTable(&t)
+	return fitTable(&t, nil)
 }
 
-func fitTable(t *chainTable) (*ChainFit, error) {
+// fitStarts are the Nelder–Mead starting points of one fit: Borel R values, and (R, k)
+// pairs for the negative binomial. A bootstrap replicate starts from the full-data fit,
+// which is near its optimum, instead of the full fan of starts.
+type fitStarts struct {
+	borel  []float64
+	negbin [][2]float64
+	// ftol is the Nelder–Mead tolerance; a replicate needs its optimum only to well within
+	// the spread of the bootstrap distribution.
+	ftol float64
+}
+
+func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 	fit := &ChainFit{Clusters: t.n, Censored: t.nCens}
 	if t.allOnes {
 		fit.R, fit.PoissonLimit = 0, true
@@ -166,7 +245,7 @@ func fitTable(t *chainTable) (*ChainFit, error) {
 		if len(x) == 2 {
 			k = math.Exp(x[1])
 		}
-		if R > 1e3 || k < 1e-8 || (len(x) == 2 && k > 1e10) {
+		if R > 1e3 || k < 1e-8 || (len(x) == 2 && k > 100*poissonLimitK) {
 			return 1e300
 		}
 		v := -chainLogLik(t, R, k)
@@ -178,8 +257,13 @@ func fitTable(t *chainTable) (*ChainFit, error) {
 	// Borel fit (one parameter).
 	bestB := math.Inf(1)
 	var rB float64
-	for _, r := range []float64{r0, 0.5 * r0, math.Min(1.5, 2*r0)} {
-		x, v := nelderMead(nll, []float64{math.Log(r)}, 0.3, 1e-12, 1e-7, 2000)
+	borelStarts := []float64{r0, 0.5 * r0, math.Min(1.5, 2*r0)}
+	ftol := 1e-12
+	if starts != nil {
+		borelStarts, ftol = starts.borel, starts.ftol
+	}
+	for _, r := range borelStarts {
+		x, v := nelderMead(nll, []float64{math.Log(r)}, 0.3, ftol, 1e-7, 2000)
 		if v < bestB {
 			bestB, rB = v, math.Exp(x[0])
 		}
@@ -190,8 +274,12 @@ func fitTable(t *chainTable) (*ChainFit, error) {
 	// Negative binomial fit.
 	bestN := math.Inf(1)
 	var rN, kN float64
-	for _, st := range [][2]float64{{r0, 0.1}, {r0, 1}, {r0, 10}, {rB, poissonLimitK}} {
-		x, v := nelderMead(nll, []float64{math.Log(st[0]), math.Log(st[1])}, 0.5, 1e-12, 1e-7, 4000)
+	nbStarts := [][2]float64{{r0, 0.1}, {r0, 1}, {r0, 10}, {rB, poissonLimitK}}
+	if starts != nil {
+		nbStarts = append(append([][2]float64(nil), starts.negbin...), [2]float64{rB, poissonLimitK})
+	}
+	for _, st := range nbStarts {
+		x, v := nelderMead(nll, []float64{math.Log(st[0]), math.Log(st[1])}, 0.5, ftol, 1e-7, 4000)
 		if v < bestN {
 			bestN, rN, kN = v, math.Exp(x[0]), math.Exp(x[1])
 		}
@@ -251,8 +339,20 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 	if !(level > 0 && level < 1) {
 		return nil, fmt.Errorf("branching: interval level %v must be strictly between 0 and 1", level)
 	}
-	if _, err := tabulateChains(obs); err != nil {
+	full, err := tabulateChains(obs)
+	if err != nil {
 		return nil, err
+	}
+	// Replicates start their search from the full-data fit (and the Poisson limit), so each
+	// costs a few Nelder–Mead runs instead of seven; a replicate whose search fails there
+	// falls back to the full fan of starts.
+	var starts *fitStarts
+	if f0, err := fitTable(&full, nil); err == nil && f0.R > 0 {
+		k0 := poissonLimitK
+		if f0.K != nil {
+			k0 = *f0.K
+		}
+		starts = &fitStarts{borel: []float64{f0.R}, negbin: [][2]float64{{f0.R, k0}}, ftol: 1e-9}
 	}
 	workers = max(1, min(workers, B))
 	out := &ChainBootstrap{Replicates: B, Level: level, R: make([]float64, B), K: make([]float64, B)}
@@ -273,7 +373,10 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 				if err != nil {
 					continue
 				}
-				f, err := fitTable(&t)
+				f, err := fitTable(&t, starts)
+				if err != nil && starts != nil {
+					f, err = fitTable(&t, nil)
+				}
 				if err != nil {
 					continue
 				}

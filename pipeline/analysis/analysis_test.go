@@ -1,0 +1,194 @@
+package analysis
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/caseweave/caseweave/pipeline/forest"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/pipeline/simulate"
+)
+
+func day(s string) linelist.Day {
+	d, err := linelist.ParseISODay(s)
+	if err != nil {
+		panic(err)
+	}
+	return d
+}
+
+// outbreak simulates a finished outbreak (observation long after its end) as cases.
+func outbreak(t *testing.T, R, k float64, index int, seed uint64, untilDate string) ([]linelist.Case, []simulate.Record) {
+	t.Helper()
+	until := day(untilDate)
+	recs, err := simulate.Run(simulate.Scenario{
+		R: R, K: k, SerialMean: 5, SerialSD: 2.5, IndexCases: index, Start: day("2026-01-05"),
+		IndexSpreadDays: 60, Until: &until, Jurisdictions: []string{"North", "South"},
+		Settings: []string{"home", "work"}, AgeGroups: []string{"0-17", "18-64", "65+"},
+		StayProbability: 0.95, AssortativeAge: 0.5, Seed: seed,
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := make([]linelist.Case, len(recs))
+	for i, r := range recs {
+		cases[i] = linelist.Case{ID: r.ID, InfectorID: r.InfectorID, Onset: r.Onset, Imported: r.Imported,
+			Jurisdiction: r.Jurisdiction, Setting: r.Setting, AgeGroup: r.AgeGroup, Row: i + 2}
+	}
+	return cases, recs
+}
+
+func analyse(t *testing.T, cases []linelist.Case, o Options) *Summary {
+	t.Helper()
+	ll := &linelist.LineList{Cases: cases, Rows: len(cases), SHA256: "test"}
+	s, err := Run("test.csv", ll, forest.Build(cases), o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+// DOMAIN.md §5 and issue 6: with 20% of links removed at random, ignoring the gaps biases
+// mean offspring low by about 20%, and Wallinga–Teunis inference brings it back to the
+// complete-data value within sampling error.
+func TestInferMissingRecoversR(t *testing.T) {
+	cases, _ := outbreak(t, 0.8, 0.5, 600, 42, "2027-12-31")
+	zero := 0
+	o := Options{AsOf: day("2028-01-01"), CensorDays: &zero, Replicates: 200, Seed: 3}
+	full := analyse(t, cases, o)
+
+	gappy := make([]linelist.Case, len(cases))
+	copy(gappy, cases)
+	rng := rand.New(rand.NewPCG(9, 9))
+	removed := 0
+	for i := range gappy {
+		if gappy[i].InfectorID != "" && rng.Float64() < 0.2 {
+			gappy[i].InfectorID = ""
+			removed++
+		}
+	}
+	ignored := analyse(t, gappy, o)
+	oi := o
+	oi.InferMissing = true
+	inferred := analyse(t, gappy, oi)
+
+	rFull, rIgn, rInf := *full.Offspring.R.Estimate, *ignored.Offspring.R.Estimate, *inferred.Offspring.R.Estimate
+	n := float64(full.Offspring.N)
+	// Standard error of the mean under the negative binomial: sqrt(R(1 + R/k)/n)
+	// [Lloyd-Smith et al. 2005].
+	se := math.Sqrt(rFull * (1 + rFull/0.5) / n)
+	t.Logf("%d cases, %d links removed: complete-data R %.4f, gaps ignored %.4f, inferred %.4f (SE %.4f); inferred links %d, no candidate %d",
+		len(cases), removed, rFull, rIgn, rInf, se, inferred.InferredLinks.Inferred, inferred.InferredLinks.NoCandidate)
+	if math.Abs(rInf-rFull) > 3*se {
+		t.Errorf("inferred R %.4f is not within 3 SE of the complete-data %.4f", rInf, rFull)
+	}
+	if rFull-rIgn < 0.1*rFull {
+		t.Errorf("ignoring 20%% of links should bias R low by about 20%%: %.4f vs %.4f", rIgn, rFull)
+	}
+	// Linkage uncertainty widens the interval relative to the complete data.
+	wFull := *full.Offspring.R.Percentile[1] - *full.Offspring.R.Percentile[0]
+	wInf := *inferred.Offspring.R.Percentile[1] - *inferred.Offspring.R.Percentile[0]
+	t.Logf("95%% interval widths: complete %.4f, inferred %.4f", wFull, wInf)
+	if wInf < 0.9*wFull {
+		t.Errorf("the inferred interval (%.4f) should not be narrower than the complete-data one (%.4f)", wInf, wFull)
+	}
+}
+
+// Same input, seed and analysis date give byte-identical JSON, whatever the worker count.
+func TestDeterministicAcrossWorkers(t *testing.T) {
+	cases, _ := outbreak(t, 1.1, 0.4, 40, 5, "2026-05-01")
+	o := Options{AsOf: day("2026-05-01"), Replicates: 300, Seed: 11, Workers: 1}
+	a, _ := json.Marshal(analyse(t, cases, o))
+	o.Workers = 2
+	b, _ := json.Marshal(analyse(t, cases, o))
+	if !bytes.Equal(a, b) {
+		t.Fatal("1 and 2 workers gave different summaries")
+	}
+	o.Seed = 12
+	c, _ := json.Marshal(analyse(t, cases, o))
+	if bytes.Equal(a, c) {
+		t.Fatal("a different seed gave the same summary")
+	}
+}
+
+// The censoring window leaves out exactly the cases with onset fewer than w days before
+// the analysis date (DOMAIN.md §5, common practice).
+func TestCensoringWindow(t *testing.T) {
+	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
+	asOf := cases[len(cases)-1].Onset + 3
+	w := 10
+	s := analyse(t, cases, Options{AsOf: asOf, CensorDays: &w, Replicates: 50, Seed: 1})
+	want := 0
+	for _, c := range cases {
+		if int(asOf-c.Onset) < w {
+			want++
+		}
+	}
+	if s.Offspring.Censored != want || s.Offspring.N != len(cases)-want || s.Outlook.Active != want {
+		t.Fatalf("censored %d, n %d, active %d; want %d, %d, %d", s.Offspring.Censored, s.Offspring.N, s.Outlook.Active, want, len(cases)-want, want)
+	}
+	if s.Settings.CensorDays != w || s.Settings.CensorDaysSource != "flag" {
+		t.Fatalf("settings %+v", s.Settings)
+	}
+}
+
+// Stratified counts below the threshold are suppressed, never shown.
+func TestSmallCountsSuppressed(t *testing.T) {
+	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
+	s := analyse(t, cases, Options{AsOf: day("2027-01-01"), Replicates: 20, Seed: 1, SuppressBelow: 5})
+	for _, st := range s.Strata {
+		if st.Cases != nil && *st.Cases > 0 && *st.Cases < 5 {
+			t.Errorf("stratum %s=%s shows %d", st.Column, st.Value, *st.Cases)
+		}
+	}
+	for _, row := range s.AgeMixing.Counts {
+		for _, c := range row {
+			if c != nil && *c > 0 && *c < 5 {
+				t.Errorf("age mixing shows a count of %d", *c)
+			}
+		}
+	}
+	for _, ser := range s.EpiCurve.Series {
+		for _, c := range ser.Counts {
+			if c != nil && *c > 0 && *c < 5 {
+				t.Errorf("epidemic curve series %s shows %d", ser.Name, *c)
+			}
+		}
+	}
+}
+
+// Pseudonymisation replaces every identifier and leaves neither the identifiers nor the
+// key in the JSON.
+func TestPseudonymised(t *testing.T) {
+	cases, _ := outbreak(t, 1.3, 0.3, 20, 2, "2026-04-01")
+	s := analyse(t, cases, Options{AsOf: day("2026-04-01"), Replicates: 50, Seed: 1})
+	const key = "sekrit-key-123"
+	p := s.Pseudonymised(key)
+	b, _ := json.Marshal(p)
+	if bytes.Contains(b, []byte(key)) {
+		t.Fatal("the key leaked")
+	}
+	for _, c := range cases {
+		if bytes.Contains(b, []byte(`"`+c.ID+`"`)) {
+			t.Fatalf("identifier %s leaked", c.ID)
+		}
+	}
+	if len(s.Clusters.Largest) == 0 || p.Clusters.Largest[0].Root == s.Clusters.Largest[0].Root {
+		t.Fatal("trees not pseudonymised")
+	}
+	// The same key gives the same pseudonyms; the original is untouched.
+	q := s.Pseudonymised(key)
+	if q.Clusters.Largest[0].Nodes[1].ID != p.Clusters.Largest[0].Nodes[1].ID {
+		t.Fatal("pseudonyms not stable")
+	}
+	ids := map[string]bool{}
+	for _, c := range cases {
+		ids[c.ID] = true
+	}
+	if !ids[s.Clusters.Largest[0].Nodes[0].ID] || !ids[s.Offspring.Superspreaders[0]] {
+		t.Fatal("the original summary was modified")
+	}
+}
