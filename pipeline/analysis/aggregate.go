@@ -1,7 +1,11 @@
 package analysis
 
 import (
+	"math"
 	"sort"
+
+	"github.com/caseweave/caseweave/pipeline/branching"
+	"github.com/caseweave/caseweave/pipeline/offspring"
 
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
@@ -113,9 +117,25 @@ func (a *run) clusters() {
 		return
 	}
 	cl := &Clusters{NodesShown: nodesPerTree}
+	// The expectation drawn over the observed sizes is the chain-size fit's own
+	// [Blumberg & Lloyd-Smith 2013]: n·P(Y = y) under the (R, k) fitted to these sizes.
+	var pmf []float64
+	if o := a.s.Offspring; o != nil && o.ChainSizeFit != nil {
+		p := offspring.Params{R: o.ChainSizeFit.R, K: math.Inf(1)}
+		if o.ChainSizeFit.K != nil {
+			p.K = *o.ChainSizeFit.K
+		}
+		largest := 1
+		for size := range sizes {
+			largest = max(largest, size)
+		}
+		if cs, err := branching.ChainSizes(distribution(p), largest); err == nil {
+			pmf = cs.PMF
+		}
+	}
 	for _, sc := range sizes {
-		if ol := a.s.Outlook; ol != nil && sc.Size-1 < len(ol.ChainSize) {
-			e := float64(n) * ol.ChainSize[sc.Size-1]
+		if sc.Size-1 < len(pmf) {
+			e := float64(n) * pmf[sc.Size-1]
 			sc.Expected = &e
 		}
 		cl.SizeHistogram = append(cl.SizeHistogram, *sc)

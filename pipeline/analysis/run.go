@@ -416,8 +416,8 @@ func (a *run) offspring() {
 		PoissonLimitShare: float64(boot.PoissonLimit) / float64(len(boot.Replicates))}
 	o.R = a.interval(offspring.StatR, boot.Estimate.R)
 	o.K = a.interval(offspring.StatK, boot.Estimate.K)
-	o.ReplicatesR = bins(boot.Replicates, offspring.StatR, false)
-	o.ReplicatesK = bins(boot.Replicates, offspring.StatK, true)
+	o.ReplicatesR = bins(boot.Replicates, offspring.StatR)
+	o.ReplicatesK = bins(boot.Replicates, offspring.StatK)
 
 	o.ZeroShare = float64(t.Counts[0]) / float64(o.N)
 	if t.Values[0] != 0 {
@@ -614,46 +614,36 @@ func finite(x float64) *float64 {
 	return &x
 }
 
-// bins makes a 30-bin histogram of a statistic over the replicates; logScale bins on
-// geometric edges (for k, which spans decades). Non-finite values are left out.
-func bins(reps []offspring.Params, stat func(offspring.Params) float64, logScale bool) *Bins {
+// bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins
+// from the smallest value to the 99th percentile; larger values (k can run to thousands
+// in replicates near the Poisson limit) are counted in Overflow, non-finite ones left out.
+func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	var xs []float64
 	for _, p := range reps {
-		v := stat(p)
-		if math.IsNaN(v) || math.IsInf(v, 0) || (logScale && v <= 0) {
-			continue
+		if v := stat(p); !math.IsNaN(v) && !math.IsInf(v, 0) {
+			xs = append(xs, v)
 		}
-		if logScale {
-			v = math.Log(v)
-		}
-		xs = append(xs, v)
 	}
 	if len(xs) == 0 {
 		return nil
 	}
-	lo, hi := xs[0], xs[0]
-	for _, v := range xs {
-		lo, hi = math.Min(lo, v), math.Max(hi, v)
-	}
+	sort.Float64s(xs)
+	lo, hi := xs[0], xs[int(0.99*float64(len(xs)-1))]
 	const n = 30
-	if hi == lo {
+	if hi <= lo {
 		hi = lo + 1e-9
 	}
 	width := (hi - lo) / n
 	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n)}
 	for i := range b.Edges {
-		e := lo + float64(i)*width
-		if logScale {
-			e = math.Exp(e)
-		}
-		b.Edges[i] = e
+		b.Edges[i] = lo + float64(i)*width
 	}
 	for _, v := range xs {
-		k := int((v - lo) / width)
-		if k >= n {
-			k = n - 1
+		if v > hi {
+			b.Overflow++
+			continue
 		}
-		b.Counts[k]++
+		b.Counts[min(int((v-lo)/width), n-1)]++
 	}
 	return b
 }

@@ -173,10 +173,12 @@ type ChainSizeFit struct {
 	Converged bool        `json:"converged"`
 }
 
-// Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]).
+// Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]);
+// Overflow counts the values above the last edge (beyond the 99th percentile).
 type Bins struct {
-	Edges  []float64 `json:"edges"`
-	Counts []int     `json:"counts"`
+	Edges    []float64 `json:"edges"`
+	Counts   []int     `json:"counts"`
+	Overflow int       `json:"overflow"`
 }
 
 // CurvePoint is one point of a curve in the unit square.

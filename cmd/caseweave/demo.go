@@ -1,0 +1,83 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/pipeline/simulate"
+)
+
+// The demo scenario is invented: a respiratory outbreak around the estuary of the river
+// Vell, in three jurisdictions that exist nowhere. Its analysis date is fixed, so the demo's
+// output is the same on every machine and every day.
+const (
+	demoAsOf  = "2026-11-27" // a Friday: the day the week's reports go out
+	demoUntil = "2026-11-25" // the export is two days behind
+	demoStart = "2026-09-07"
+)
+
+var demoJurisdictions = []string{"Marrowfield", "Ostvale", "Quillan Bay"}
+
+func demoScenario() simulate.Scenario {
+	until, _ := linelist.ParseISODay(demoUntil)
+	start, _ := linelist.ParseISODay(demoStart)
+	return simulate.Scenario{
+		R: 1.15, K: 0.3, SerialMean: 5.5, SerialSD: 2.8,
+		IndexCases: 30, Start: start, IndexSpreadDays: 35, Until: &until,
+		Jurisdictions: demoJurisdictions, Settings: splitList(defaultSettings), AgeGroups: splitList(defaultAgeGroups),
+		StayProbability: 0.92, AssortativeAge: 0.55, MissingLinks: 0.1, Seed: 20261127,
+	}
+}
+
+func newDemoCmd(e env) *cobra.Command {
+	var out string
+	var pdf bool
+	c := &cobra.Command{
+		Use:   "demo [-o DIR]",
+		Short: "Simulate the built-in invented scenario and write its reports, one per jurisdiction",
+		Long: `demo needs no input: it simulates an invented outbreak in three invented jurisdictions,
+writes the line list it would have produced (with invented name, phone and address columns,
+which the reports never show), and writes one report per jurisdiction plus an index.`,
+		Args: exactArgs(0, "no positional arguments"),
+		RunE: func(c *cobra.Command, args []string) error {
+			recs, err := simulate.Run(demoScenario())
+			if err != nil {
+				return withCode(exitInput, err)
+			}
+			var buf bytes.Buffer
+			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true, ReportDelay: 2}); err != nil {
+				return withCode(exitOutput, err)
+			}
+			if err := os.MkdirAll(out, 0o755); err != nil {
+				return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", out, err))
+			}
+			list := filepath.Join(out, "vell-estuary-linelist.csv")
+			if err := writeFileAtomic(list, buf.Bytes()); err != nil {
+				return err
+			}
+			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), list)
+			rc := newReportCmd(e)
+			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "-o", out, list}
+			if pdf {
+				args = append([]string{"--pdf"}, args...)
+			}
+			rc.SetArgs(args)
+			rc.SetOut(e.stdout)
+			rc.SetErr(e.stderr)
+			rc.SilenceErrors, rc.SilenceUsage = true, true
+			if err := rc.Execute(); err != nil {
+				return err
+			}
+			fmt.Fprintf(e.stdout, "Open %s in a browser.\n", filepath.Join(out, "index.html"))
+			return nil
+		},
+	}
+	c.Flags().StringVarP(&out, "output", "o", "caseweave-demo", "directory to write the demo into")
+	c.Flags().BoolVar(&pdf, "pdf", false, "also print each report to PDF (needs chromium)")
+	return c
+}

@@ -1,0 +1,342 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/render"
+	"github.com/caseweave/caseweave/templates"
+)
+
+// reportFlags are report's own flags, on top of estimate's.
+type reportFlags struct {
+	estimateFlags
+	template  string
+	out       string
+	jsonOut   string
+	tablesDir string
+	by        string
+	pdf       bool
+	showIDs   bool
+}
+
+func newReportCmd(e env) *cobra.Command {
+	var f reportFlags
+	c := &cobra.Command{
+		Use:   "report [flags] LINELIST.csv",
+		Short: "Write the self-contained HTML report (one per jurisdiction with --by)",
+		Long: `report runs the whole analysis and renders a self-contained HTML report from a template
+folder (Markdown with template actions; the built-in default unless --template is given).
+The HTML carries its style sheet and chart library inline and makes no network request.
+With --by COLUMN, -o names a directory that receives one <slug>.html and <slug>.json per
+value of the column, and an index.html linking them. Case identifiers are pseudonymised
+unless --show-ids is given; small counts in stratified tables are suppressed.`,
+		Args: exactArgs(1, "one line-list file"),
+		RunE: func(c *cobra.Command, args []string) error {
+			return f.run(c, e, args[0])
+		},
+	}
+	f.estimateFlags.register(c)
+	fl := c.Flags()
+	fl.StringVar(&f.template, "template", "", "template folder (report.md, partials, style.css, config.yaml); with --by, a folder of per-value folders")
+	fl.StringVarP(&f.out, "output", "o", "", "report file to write (default report.html; with --by, a directory, default reports)")
+	fl.StringVar(&f.jsonOut, "json", "", "also write the summary JSON to FILE")
+	fl.StringVar(&f.tablesDir, "tables", "", "also write each table of the report as CSV into DIR")
+	fl.StringVar(&f.by, "by", "", "one report per value of this column: jurisdiction, setting or age_group")
+	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
+	fl.BoolVar(&f.showIDs, "show-ids", false, "print case identifiers as they are instead of pseudonyms")
+	return c
+}
+
+// page is one rendered report, kept in memory until every report of the run has succeeded.
+type page struct {
+	slug, value string
+	html, json  []byte
+	pdf         []byte
+	summary     *analysis.Summary
+	tables      *analysis.Summary
+}
+
+func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
+	if f.by != "" && !isStratumColumn(f.by) {
+		return usageErrorf("--by must be jurisdiction, setting or age_group, got %q", f.by)
+	}
+	tmplRoot, err := openTemplateDir(f.template)
+	if err != nil {
+		return err
+	}
+	if f.config == "" && f.template != "" && f.by == "" {
+		if _, err := os.Stat(filepath.Join(f.template, render.ConfigFile)); err == nil {
+			f.config = filepath.Join(f.template, render.ConfigFile)
+		}
+	}
+	ld, err := f.load(path)
+	if err != nil {
+		return err
+	}
+	var pages []page
+	if f.by == "" {
+		p, err := f.one(c, e, ld, tmplRoot, nil)
+		if err != nil {
+			return err
+		}
+		pages = append(pages, p)
+	} else {
+		for _, v := range strataValues(ld.list.Cases, f.by) {
+			v := v
+			sel := func(cs *linelist.Case) bool { return stratumValue(cs, f.by) == v }
+			fsys := tmplRoot
+			if f.template != "" {
+				if sub, ok := valueTemplate(f.template, slug(v)); ok {
+					fsys = sub
+				}
+			}
+			p, err := f.one(c, e, ld, fsys, &scoped{value: v, sel: sel})
+			if err != nil {
+				return fmt.Errorf("%s %q: %w", f.by, v, err)
+			}
+			pages = append(pages, p)
+		}
+		uniqueSlugs(pages)
+	}
+	return f.write(e, pages)
+}
+
+type scoped struct {
+	value string
+	sel   func(*linelist.Case) bool
+}
+
+// one analyses and renders one report.
+func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *scoped) (page, error) {
+	rc, err := render.LoadConfig(fsys)
+	if err != nil {
+		return page{}, withCode(exitTemplate, err)
+	}
+	o, err := f.options(c, e, ld)
+	if err != nil {
+		return page{}, err
+	}
+	o.SuppressBelow = rc.SuppressBelow
+	if rc.IncubationDays != nil {
+		o.IncubationDays = *rc.IncubationDays
+	}
+	p := page{slug: "report"}
+	if sc != nil {
+		o.Select = sc.sel
+		o.Scope = &analysis.Scope{Column: f.by, Value: sc.value}
+		p.value, p.slug = sc.value, slug(sc.value)
+		if rc.Jurisdiction == "" && f.by == linelist.ColJurisdiction {
+			rc.Jurisdiction = sc.value
+		}
+	}
+	s, err := runAnalysis(ld, o)
+	if err != nil {
+		return page{}, err
+	}
+	shown := s
+	if !f.showIDs {
+		shown = s.Pseudonymised(rc.PseudonymKey)
+	}
+	html, err := render.Render(shown, render.Options{Templates: fsys, Config: &rc, ShowIDs: true})
+	if err != nil {
+		var te *render.TemplateError
+		var ce *render.ConfigError
+		if errors.As(err, &te) || errors.As(err, &ce) {
+			return page{}, withCode(exitTemplate, err)
+		}
+		return page{}, withCode(exitOutput, err)
+	}
+	p.html, p.summary, p.tables = html, s, shown
+	if p.json, err = marshalJSON(shown); err != nil {
+		return page{}, withCode(exitOutput, err)
+	}
+	if f.pdf {
+		if p.pdf, err = printPDF(html); err != nil {
+			return page{}, withCode(exitOutput, err)
+		}
+	}
+	return p, nil
+}
+
+// write puts every file of the run in place, each atomically, only after all reports have
+// rendered: a failed run leaves earlier reports untouched.
+func (f *reportFlags) write(e env, pages []page) error {
+	if f.by == "" {
+		p := pages[0]
+		out := f.out
+		if out == "" {
+			out = "report.html"
+		}
+		if err := writeFileAtomic(out, p.html); err != nil {
+			return err
+		}
+		if f.pdf {
+			if err := writeFileAtomic(strings.TrimSuffix(out, filepath.Ext(out))+".pdf", p.pdf); err != nil {
+				return err
+			}
+		}
+		if f.jsonOut != "" {
+			if err := writeFileAtomic(f.jsonOut, p.json); err != nil {
+				return err
+			}
+		}
+		if f.tablesDir != "" {
+			if err := writeTables(p.tables, f.tablesDir); err != nil {
+				return err
+			}
+		}
+		fmt.Fprintf(e.stderr, "wrote %s\n", out)
+		return nil
+	}
+	dir := f.out
+	if dir == "" {
+		dir = "reports"
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", dir, err))
+	}
+	var entries []render.IndexEntry
+	for _, p := range pages {
+		for _, file := range []struct {
+			name string
+			data []byte
+			want bool
+		}{{p.slug + ".html", p.html, true}, {p.slug + ".json", p.json, true}, {p.slug + ".pdf", p.pdf, f.pdf}} {
+			if !file.want {
+				continue
+			}
+			if err := writeFileAtomic(filepath.Join(dir, file.name), file.data); err != nil {
+				return err
+			}
+		}
+		if f.tablesDir != "" {
+			if err := writeTables(p.tables, filepath.Join(f.tablesDir, p.slug)); err != nil {
+				return err
+			}
+		}
+		entries = append(entries, render.IndexEntry{Value: p.value, File: p.slug + ".html", Summary: p.tables})
+	}
+	idx, err := render.Index(f.by, entries)
+	if err != nil {
+		return withCode(exitOutput, err)
+	}
+	if err := writeFileAtomic(filepath.Join(dir, "index.html"), idx); err != nil {
+		return err
+	}
+	if f.jsonOut != "" {
+		fmt.Fprintln(e.stderr, "note: with --by, each value's summary is written as <slug>.json beside its report; --json is ignored")
+	}
+	fmt.Fprintf(e.stderr, "wrote %d reports and index.html to %s\n", len(pages), dir)
+	return nil
+}
+
+func writeTables(s *analysis.Summary, dir string) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", dir, err))
+	}
+	return withCode(exitOutput, render.WriteTables(s, dir))
+}
+
+func marshalJSON(v any) ([]byte, error) {
+	b, err := jsonIndent(v)
+	if err != nil {
+		return nil, err
+	}
+	return append(b, '\n'), nil
+}
+
+// openTemplateDir returns the template folder's file system (the embedded default when
+// dir is empty). Templates read only inside it: os.DirFS refuses paths that leave it.
+func openTemplateDir(dir string) (fs.FS, error) {
+	if dir == "" {
+		return templates.Default(), nil
+	}
+	st, err := os.Stat(dir)
+	if err != nil || !st.IsDir() {
+		return nil, usageErrorf("--template %q is not a folder", dir)
+	}
+	return os.DirFS(dir), nil
+}
+
+// valueTemplate finds the per-value template folder DIR/<slug>, if it has a report.md.
+func valueTemplate(dir, slug string) (fs.FS, bool) {
+	sub := filepath.Join(dir, slug)
+	if _, err := os.Stat(filepath.Join(sub, "report.md")); err != nil {
+		return nil, false
+	}
+	return os.DirFS(sub), true
+}
+
+func isStratumColumn(c string) bool {
+	return c == linelist.ColJurisdiction || c == linelist.ColSetting || c == linelist.ColAgeGroup
+}
+
+func stratumValue(c *linelist.Case, col string) string {
+	switch col {
+	case linelist.ColSetting:
+		return c.Setting
+	case linelist.ColAgeGroup:
+		return c.AgeGroup
+	}
+	return c.Jurisdiction
+}
+
+func strataValues(cases []linelist.Case, col string) []string {
+	m := map[string]bool{}
+	for i := range cases {
+		m[stratumValue(&cases[i], col)] = true
+	}
+	vs := make([]string, 0, len(m))
+	for v := range m {
+		vs = append(vs, v)
+	}
+	sort.Strings(vs)
+	return vs
+}
+
+// slug makes a file name from a value: lower-case ASCII letters and digits, other runs of
+// characters as one hyphen.
+func slug(v string) string {
+	var b strings.Builder
+	dash := false
+	for _, r := range strings.ToLower(v) {
+		switch {
+		case r >= 'a' && r <= 'z' || r >= '0' && r <= '9':
+			b.WriteRune(r)
+			dash = false
+		case !dash && b.Len() > 0:
+			b.WriteByte('-')
+			dash = true
+		}
+	}
+	s := strings.TrimSuffix(b.String(), "-")
+	if s == "" {
+		s = "not-recorded"
+	}
+	if s == "index" {
+		s = "index-value"
+	}
+	return s
+}
+
+// uniqueSlugs appends -2, -3, … to slugs that two values share.
+func uniqueSlugs(pages []page) {
+	seen := map[string]int{}
+	for i := range pages {
+		s := pages[i].slug
+		seen[s]++
+		if n := seen[s]; n > 1 {
+			pages[i].slug = fmt.Sprintf("%s-%d", s, n)
+		}
+	}
+}

@@ -1,0 +1,53 @@
+package render_test
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/render"
+)
+
+func ExampleRender() {
+	asOf, _ := linelist.ParseISODay("2024-03-24")
+	s := &analysis.Summary{
+		Tool:     analysis.Tool{Name: "caseweave", Version: "dev"},
+		AsOf:     asOf,
+		Settings: analysis.RunSettings{Level: 0.95, Interval: "bca"},
+		Input:    analysis.Input{Path: "cases.csv", Rows: 10, Used: 10},
+		Tree:     analysis.Tree{Cases: 10, Linked: 6, Roots: 4, Clusters: 4},
+	}
+	html, err := render.Render(s, render.Options{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println(strings.HasPrefix(string(html), "<!DOCTYPE html>"), strings.Contains(string(html), "Data to 24 March 2024"))
+	// Output: true true
+}
+
+func ExampleParseConfig() {
+	_, err := render.ParseConfig("config.yaml", []byte("jurisdiction: North\nsuppres_below: 3\n"))
+	fmt.Println(err)
+	// Output: config.yaml line 2: unknown key "suppres_below" (known keys: jurisdiction, contact, suppress_below, labels, sections, caution, incubation_days, pseudonym_key, input)
+}
+
+func ExampleWriteFileAtomic() {
+	dir, _ := os.MkdirTemp("", "caseweave-example-")
+	defer os.RemoveAll(dir)
+	p := filepath.Join(dir, "report.html")
+	fmt.Println(render.WriteFileAtomic(p, []byte("<!DOCTYPE html>")))
+	b, _ := os.ReadFile(p)
+	fmt.Println(string(b))
+	// Output:
+	// <nil>
+	// <!DOCTYPE html>
+}
+
+func ExampleChartNames() {
+	fmt.Println(render.ChartNames()[:3])
+	// Output: [epicurve offspring bootstrap_r]
+}

@@ -1,0 +1,417 @@
+package render
+
+import (
+	"bytes"
+	"crypto/hmac"
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"math"
+	"path"
+	"path/filepath"
+	"reflect"
+	"strconv"
+	"strings"
+	"text/template"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+)
+
+// maxPartialDepth bounds partials that include themselves.
+const maxPartialDepth = 16
+
+// funcs is the report template function library. Every function returns Markdown in which
+// data are already escaped (mdText), a plain value for a condition (bool, int), or an error
+// that stops the render with the template's file and line.
+func (st *renderState) funcs() template.FuncMap {
+	return template.FuncMap{
+		escapeFunc: escapeValue,
+		"text":     func(v any) (mdText, error) { return escapeValue(v) },
+		"num":      st.fnNum,
+		"pct":      st.fnPct,
+		"est":      func(e analysis.Estimate, digits int) (mdText, error) { return st.fnEst(e, digits, false) },
+		"estpct":   func(e analysis.Estimate, digits int) (mdText, error) { return st.fnEst(e, digits, true) },
+		"interval": st.fnInterval,
+		"count":    st.fnCount,
+		"day":      fnDay,
+		"isoday":   func(d linelist.Day) mdText { return mdText(escapeMarkdown(d.String())) },
+		"week":     fnWeek,
+		"plural":   fnPlural,
+		"level":    func() mdText { return mdText(escapeMarkdown(st.levelText())) },
+		"method":   func() mdText { return mdText(escapeMarkdown(st.intervalName())) },
+		"chart":    st.fnChart,
+		"table":    st.fnTable,
+		"has":      st.fnHas,
+		"foldout":  st.fnFoldout,
+		"endfold":  func() mdText { return st.marker(&block{kind: blockFoldClose}) },
+		"box":      st.fnBox,
+		"endbox":   func() mdText { return st.marker(&block{kind: blockBoxClose}) },
+		"partial":  st.fnPartial,
+		"title":    st.fnTitle,
+		"show":     func(section string) bool { return st.cfg.shows(section) },
+		"jurisdiction": func() mdText {
+			return mdText(escapeMarkdown(st.cfg.Jurisdiction))
+		},
+		"contact":      func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
+		"caution":      st.fnCaution,
+		"caseid":       func(id string) mdText { return mdText(escapeMarkdown(st.pseudonym(id))) },
+		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(problemMeaning(c))) },
+		"threshold":    func() int { return st.cfg.suppress() },
+		"value":        fnValue,
+		"windowsource": func() mdText { return mdText(escapeMarkdown(windowSource(st.s.Settings.CensorDaysSource))) },
+		// Identifiers are hidden when this render replaces them, or when the summary arrived
+		// already pseudonymised (analysis.Summary.Pseudonymised).
+		"pseudonymised": func() bool { return !st.showIDs || st.s.Settings.Pseudonymised },
+		"ratio":         fnRatio,
+		"minus":         func(a, b int) int { return a - b },
+		"filename":      func(p string) mdText { return mdText(escapeMarkdown(path.Base(filepath.ToSlash(p)))) },
+	}
+}
+
+// number extracts a float from the numeric kinds and their pointers; ok is false for nil.
+func number(v any) (float64, bool, error) {
+	rv := reflect.ValueOf(v)
+	for rv.IsValid() && rv.Kind() == reflect.Pointer {
+		if rv.IsNil() {
+			return 0, false, nil
+		}
+		rv = rv.Elem()
+	}
+	switch rv.Kind() {
+	case reflect.Float32, reflect.Float64:
+		return rv.Float(), true, nil
+	case reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64:
+		return float64(rv.Int()), true, nil
+	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64:
+		return float64(rv.Uint()), true, nil
+	case reflect.Invalid:
+		return 0, false, nil
+	}
+	return 0, false, errorf("expected a number, got %s", rv.Type())
+}
+
+// formatNumber prints x with the given decimals and a thin grouping of thousands, so 1234567
+// reads "1,234,567". Non-finite values print as a dash (a Summary holds none; this is a guard).
+func formatNumber(x float64, digits int) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "—"
+	}
+	if digits < 0 {
+		digits = 0
+	}
+	s := strconv.FormatFloat(x, 'f', digits, 64)
+	if s == "-"+strconv.FormatFloat(0, 'f', digits, 64) {
+		s = s[1:]
+	}
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	intPart, frac, _ := strings.Cut(s, ".")
+	var b strings.Builder
+	if neg {
+		b.WriteByte('-')
+	}
+	for i, r := range intPart {
+		if i > 0 && (len(intPart)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	if frac != "" {
+		b.WriteByte('.')
+		b.WriteString(frac)
+	}
+	return b.String()
+}
+
+func (st *renderState) fnNum(v any, digits int) (mdText, error) {
+	x, ok, err := number(v)
+	if err != nil || !ok {
+		return "—", err
+	}
+	return mdText(escapeMarkdown(formatNumber(x, digits))), nil
+}
+
+func (st *renderState) fnPct(v any, digits int) (mdText, error) {
+	x, ok, err := number(v)
+	if err != nil || !ok {
+		return "—", err
+	}
+	return mdText(escapeMarkdown(formatNumber(100*x, digits) + "%")), nil
+}
+
+// levelText is the interval level as a percentage, e.g. "95%".
+func (st *renderState) levelText() string {
+	l := st.s.Settings.Level
+	if l <= 0 || l >= 1 {
+		l = 0.95
+	}
+	return strconv.FormatFloat(100*l, 'f', -1, 64) + "%"
+}
+
+// intervalName names the headline interval method.
+func (st *renderState) intervalName() string {
+	if st.s.Settings.Interval == "bca" {
+		return "bias-corrected and accelerated (BCa) bootstrap"
+	}
+	return "percentile bootstrap"
+}
+
+// headline returns the bounds of the interval the run headlines (Settings.Interval).
+func (st *renderState) headline(e analysis.Estimate) [2]*float64 {
+	if st.s.Settings.Interval == "bca" {
+		return e.BCa
+	}
+	return e.Percentile
+}
+
+// estimateText formats an estimate with its headline interval: "0.80 (95% CI 0.74–0.88)".
+// A missing bound reads "no upper bound"/"no lower bound"; a missing estimate "not estimable".
+func (st *renderState) estimateText(e analysis.Estimate, digits int, percent bool) string {
+	f := func(x float64) string {
+		if percent {
+			return formatNumber(100*x, digits) + "%"
+		}
+		return formatNumber(x, digits)
+	}
+	if e.Estimate == nil {
+		return "not estimable"
+	}
+	b := st.headline(e)
+	out := f(*e.Estimate) + " (" + st.levelText() + " CI "
+	switch {
+	case b[0] != nil && b[1] != nil:
+		out += f(*b[0]) + "–" + f(*b[1])
+	case b[0] != nil:
+		out += f(*b[0]) + " to no upper bound"
+	case b[1] != nil:
+		out += "up to " + f(*b[1])
+	default:
+		out += "not available"
+	}
+	return out + ")"
+}
+
+func (st *renderState) fnEst(e analysis.Estimate, digits int, percent bool) (mdText, error) {
+	return mdText(escapeMarkdown(st.estimateText(e, digits, percent))), nil
+}
+
+// intervalText formats a pair of nullable bounds: "0.74–0.88".
+func intervalText(b [2]*float64, digits int) string {
+	lo, hi := "…", "…"
+	if b[0] != nil {
+		lo = formatNumber(*b[0], digits)
+	}
+	if b[1] != nil {
+		hi = formatNumber(*b[1], digits)
+	}
+	if b[0] == nil && b[1] == nil {
+		return "not available"
+	}
+	return lo + "–" + hi
+}
+
+func (st *renderState) fnInterval(b [2]*float64, digits int) mdText {
+	return mdText(escapeMarkdown(intervalText(b, digits)))
+}
+
+// countText applies small-count suppression: 1 … threshold−1 and null print "<threshold".
+// Zero prints as 0: it discloses no individual.
+func countText(v *int, threshold int) string {
+	if v == nil || (*v > 0 && *v < threshold) {
+		return "<" + strconv.Itoa(threshold)
+	}
+	return formatNumber(float64(*v), 0)
+}
+
+func (st *renderState) fnCount(v any) (mdText, error) {
+	x, ok, err := number(v)
+	if err != nil {
+		return "", err
+	}
+	var p *int
+	if ok {
+		n := int(x)
+		p = &n
+	}
+	return mdText(escapeMarkdown(countText(p, st.cfg.suppress()))), nil
+}
+
+// dayText is the long form of a date, "4 March 2024", unambiguous in every locale.
+func dayText(d linelist.Day) string { return d.Time().Format("2 January 2006") }
+
+func fnDay(v any) (mdText, error) {
+	switch d := v.(type) {
+	case linelist.Day:
+		return mdText(escapeMarkdown(dayText(d))), nil
+	case *linelist.Day:
+		if d == nil {
+			return "—", nil
+		}
+		return mdText(escapeMarkdown(dayText(*d))), nil
+	}
+	return "", errorf("day: expected a date, got %T", v)
+}
+
+// weekText is the ISO 8601 week of d, "2024-W10".
+func weekText(d linelist.Day) string {
+	y, w := d.ISOWeek()
+	return fmt.Sprintf("%d-W%02d", y, w)
+}
+
+func fnWeek(d linelist.Day) mdText { return mdText(escapeMarkdown(weekText(d))) }
+
+func fnPlural(n any, one, many string) (mdText, error) {
+	x, _, err := number(n)
+	if err != nil {
+		return "", err
+	}
+	if x == 1 {
+		return mdText(escapeMarkdown(one)), nil
+	}
+	return mdText(escapeMarkdown(many)), nil
+}
+
+func (st *renderState) fnTitle(section string) (mdText, error) {
+	t, err := st.cfg.title(section)
+	return mdText(escapeMarkdown(t)), err
+}
+
+// fnCaution prints the configured caution text (or the default), escaped, keeping its
+// paragraph breaks.
+func (st *renderState) fnCaution() mdText {
+	c := strings.TrimSpace(st.cfg.Caution)
+	if c == "" {
+		c = DefaultCaution
+	}
+	c = strings.ReplaceAll(c, "\r\n", "\n")
+	var paras []string
+	for _, p := range strings.Split(c, "\n\n") {
+		if p = strings.TrimSpace(p); p != "" {
+			paras = append(paras, escapeMarkdown(p))
+		}
+	}
+	return mdText(strings.Join(paras, "\n\n"))
+}
+
+func (st *renderState) fnFoldout(title string) mdText {
+	return st.marker(&block{kind: blockFoldOpen, title: strings.Join(strings.Fields(title), " ")})
+}
+
+func (st *renderState) fnBox(kind string) (mdText, error) {
+	switch kind {
+	case "headline", "caution", "note":
+		return st.marker(&block{kind: blockBoxOpen, box: kind}), nil
+	}
+	return "", errorf("box: unknown kind %q (use headline, caution or note)", kind)
+}
+
+// fnPartial executes another template file of the folder with data (the Summary when
+// omitted). Only files parsed from the template folder can be named.
+func (st *renderState) fnPartial(name string, data ...any) (mdText, error) {
+	t := st.set.Lookup(name)
+	if t == nil || t.Tree == nil {
+		return "", errorf("partial: no template file %q in the template folder", name)
+	}
+	if st.depth >= maxPartialDepth {
+		return "", errorf("partial: %q nested more than %d deep", name, maxPartialDepth)
+	}
+	var dot any = st.s
+	if len(data) > 0 {
+		dot = data[0]
+	}
+	st.depth++
+	defer func() { st.depth-- }()
+	var buf bytes.Buffer
+	if err := t.Execute(&buf, dot); err != nil {
+		return "", asTemplateError(err, name)
+	}
+	return mdText(buf.String()), nil
+}
+
+// pseudonym replaces a case identifier unless the run shows identifiers. With a key it is a
+// keyed hash (HMAC-SHA-256, first 10 hex digits), stable across runs with the same key; with
+// no key it is an ordinal in order of first appearance in this report, which cannot be
+// reversed at all.
+func (st *renderState) pseudonym(id string) string {
+	if st.showIDs {
+		return id
+	}
+	if st.cfg.PseudonymKey != "" {
+		m := hmac.New(sha256.New, []byte(st.cfg.PseudonymKey))
+		m.Write([]byte(id))
+		return "case-" + hex.EncodeToString(m.Sum(nil))[:10]
+	}
+	if p, ok := st.ordinals[id]; ok {
+		return p
+	}
+	p := "case-" + strconv.Itoa(len(st.ordinals)+1)
+	st.ordinals[id] = p
+	return p
+}
+
+// problemMeaning explains a problem code in plain words.
+func problemMeaning(c linelist.Code) string {
+	switch c {
+	case linelist.CodeFieldCount:
+		return "row has the wrong number of columns (row not used)"
+	case linelist.CodeMissingID:
+		return "case identifier is blank (row not used)"
+	case linelist.CodeDuplicateID:
+		return "case identifier seen before (later row not used)"
+	case linelist.CodeBadDate:
+		return "a date could not be read"
+	case linelist.CodeBadValue:
+		return "a value outside the column's allowed values (value dropped)"
+	case linelist.CodeUnknownInfector:
+		return "infector names no known case (link dropped)"
+	case linelist.CodeSelfInfector:
+		return "case names itself as infector (link dropped)"
+	case linelist.CodeCycle:
+		return "links form a loop (links on the loop dropped)"
+	case linelist.CodeOnsetBeforeInfector:
+		return "onset before the infector's onset (link kept)"
+	case linelist.CodeFutureOnset:
+		return "onset after the analysis date (case kept)"
+	}
+	return string(c)
+}
+
+// fnValue unwraps a nullable number for comparisons ({{ if lt (value .K.Estimate) 1.0 }});
+// guard it with {{ with }} or {{ if }}: a null is an error, not a silent zero.
+func fnValue(v any) (float64, error) {
+	x, ok, err := number(v)
+	if err != nil {
+		return 0, err
+	}
+	if !ok {
+		return 0, errorf("value: the number is null; test it with {{ with }} first")
+	}
+	return x, nil
+}
+
+// fnRatio is a/b, or 0 when b is 0 (a share of nothing is reported as none).
+func fnRatio(a, b any) (float64, error) {
+	x, _, err := number(a)
+	if err != nil {
+		return 0, err
+	}
+	y, _, err := number(b)
+	if err != nil || y == 0 {
+		return 0, err
+	}
+	return x / y, nil
+}
+
+// windowSource says in words where the censoring window came from.
+func windowSource(src string) string {
+	switch src {
+	case "flag":
+		return "set by the analyst"
+	case "serial_interval_p95":
+		return "the 95th percentile of the fitted serial interval"
+	case "default":
+		return "caseweave's default"
+	}
+	return src
+}

@@ -1,0 +1,224 @@
+package render
+
+import (
+	"bytes"
+	_ "embed"
+	"errors"
+	"fmt"
+	"html/template"
+	"io/fs"
+	"regexp"
+	"strings"
+	texttemplate "text/template"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/templates"
+)
+
+//go:embed assets/echarts/echarts.min.js
+var echartsJS string
+
+//go:embed assets/echarts/NOTICE
+var echartsNotice string
+
+// Options tune one render. The zero value renders the embedded default template with its
+// own config.yaml and every chart.
+type Options struct {
+	// Templates is the template folder (report.md, partials, style.css, config.yaml).
+	// Nil means the embedded templates/default.
+	Templates fs.FS
+	// Config overrides the folder's config.yaml when non-nil.
+	Config *ReportConfig
+	// Charts names the charts to draw (see ChartNames); nil draws all. A chart left out is
+	// replaced by a one-line note.
+	Charts []string
+	// TablesDir, when set, also receives every table of the report as CSV (see WriteTables).
+	TablesDir string
+	// ShowIDs prints case identifiers as they are; otherwise they are pseudonymised.
+	ShowIDs bool
+}
+
+// renderState is everything one render needs; nothing outlives the call.
+type renderState struct {
+	s        *analysis.Summary
+	cfg      ReportConfig
+	charts   []string
+	showIDs  bool
+	set      *texttemplate.Template
+	depth    int
+	blocks   []*block
+	chartSeq int
+	ordinals map[string]string
+	errs     []error
+}
+
+// Render executes the report template over s and returns one self-contained HTML file: the
+// style sheet and the chart library are inline, and the page makes no request of any kind.
+// The same Summary and options give byte-identical output.
+func Render(s *analysis.Summary, opts Options) ([]byte, error) {
+	if s == nil {
+		return nil, errors.New("render: no summary")
+	}
+	fsys := opts.Templates
+	if fsys == nil {
+		fsys = templates.Default()
+	}
+	var cfg ReportConfig
+	if opts.Config != nil {
+		cfg = *opts.Config
+	} else {
+		c, err := LoadConfig(fsys)
+		if err != nil {
+			return nil, err
+		}
+		cfg = c
+	}
+	for _, c := range opts.Charts {
+		if !isChartName(c) {
+			return nil, fmt.Errorf("render: unknown chart %q (known: %s)", c, strings.Join(ChartNames(), ", "))
+		}
+	}
+	st := &renderState{s: s, cfg: cfg, charts: opts.Charts, showIDs: opts.ShowIDs, ordinals: map[string]string{}}
+	set, err := parseFolder(fsys, st.funcs())
+	if err != nil {
+		return nil, err
+	}
+	st.set = set
+	var md bytes.Buffer
+	if err := set.ExecuteTemplate(&md, MainTemplate, s); err != nil {
+		return nil, asTemplateError(err, MainTemplate)
+	}
+	body, err := st.markdownToHTML(md.Bytes())
+	if err != nil {
+		return nil, err
+	}
+	css, err := loadCSS(fsys)
+	if err != nil {
+		return nil, err
+	}
+	page, err := pageHTML(st, body, css)
+	if err != nil {
+		return nil, err
+	}
+	if opts.TablesDir != "" {
+		if err := writeTables(st, opts.TablesDir); err != nil {
+			return nil, err
+		}
+	}
+	return page, nil
+}
+
+// StyleFile is the style sheet of a template folder.
+const StyleFile = "style.css"
+
+// cssForbidden matches what could end the style element or fetch anything: the report must
+// stay self-contained, so a style sheet may not import, load fonts or images by URL.
+var cssForbidden = regexp.MustCompile(`(?i)</style|<!--|<script|@import|url\s*\(|expression\s*\(|\\`)
+
+// loadCSS reads the folder's style sheet. It is the template author's file, placed inline as
+// CSS only after the checks above; the author's Markdown has no such power (raw HTML is dropped).
+func loadCSS(fsys fs.FS) (template.CSS, error) {
+	b, err := fs.ReadFile(fsys, StyleFile)
+	if errors.Is(err, fs.ErrNotExist) {
+		return "", nil
+	}
+	if err != nil {
+		return "", &TemplateError{File: StyleFile, Err: err}
+	}
+	if loc := cssForbidden.FindIndex(b); loc != nil {
+		line := 1 + bytes.Count(b[:loc[0]], []byte("\n"))
+		return "", &TemplateError{File: StyleFile, Line: line,
+			Err: fmt.Errorf("%q is not allowed: the report must not load anything or leave the style element", b[loc[0]:loc[1]])}
+	}
+	return template.CSS(b), nil // checked above; see cssForbidden
+}
+
+// chartScript is the embedded chart library with its licence notice beside it. Both are
+// compiled into the binary (render/assets/echarts, see SOURCE.md), never read from a template
+// folder or data; the check below keeps them from ending the script element.
+func chartScript() (template.JS, error) {
+	notice := strings.ReplaceAll(strings.TrimSpace(echartsNotice), "*/", "* /")
+	js := "/*! Apache ECharts 5.4.3, inlined unchanged from the npm package dist/echarts.min.js.\n" +
+		notice + "\nLicensed under the Apache License, Version 2.0; the full licence text ships with caseweave (render/assets/echarts/LICENSE). */\n" +
+		echartsJS
+	if strings.Contains(strings.ToLower(js), "</script") || strings.Contains(js, "<!--") {
+		return "", errors.New("render: embedded chart library contains a script terminator")
+	}
+	return template.JS(js), nil // embedded asset, checked above
+}
+
+// pageTemplate is the HTML shell. The Content-Security-Policy forbids every fetch; only the
+// inline style and scripts run.
+const pageTemplate = `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; script-src 'unsafe-inline'; img-src data:">
+<meta name="generator" content="{{.Generator}}">
+<title>{{.Title}}</title>
+<style>{{.CSS}}</style>
+</head>
+<body>
+<main class="cw-report">
+{{.Body}}
+</main>
+{{- if .HasCharts}}
+<script>{{.Library}}</script>
+<script>
+(function () {
+  var nodes = document.querySelectorAll("[data-cw-chart]");
+  for (var i = 0; i < nodes.length; i++) {
+    var el = nodes[i];
+    var src = document.getElementById(el.id + "_option");
+    if (!src) { continue; }
+    var chart = echarts.init(el, null, { renderer: "canvas" });
+    chart.setOption(JSON.parse(src.textContent));
+  }
+  document.documentElement.setAttribute("data-cw-charts", "ready");
+})();
+</script>
+{{- end}}
+<script>
+window.addEventListener("beforeprint", function () {
+  var folds = document.querySelectorAll("details");
+  for (var i = 0; i < folds.length; i++) { folds[i].open = true; }
+});
+</script>
+</body>
+</html>
+`
+
+func pageHTML(st *renderState, body []byte, css template.CSS) ([]byte, error) {
+	t, err := template.New("page").Parse(pageTemplate)
+	if err != nil {
+		return nil, err
+	}
+	hasCharts := false
+	for _, b := range st.blocks {
+		if b.kind == blockChart && len(b.charts) > 0 {
+			hasCharts = true
+		}
+	}
+	var lib template.JS
+	if hasCharts {
+		if lib, err = chartScript(); err != nil {
+			return nil, err
+		}
+	}
+	title := "Transmission report"
+	if st.cfg.Jurisdiction != "" {
+		title += " — " + st.cfg.Jurisdiction
+	}
+	title += " — data to " + dayText(st.s.AsOf)
+	var out bytes.Buffer
+	err = t.Execute(&out, map[string]any{
+		"Title":     title,
+		"Generator": strings.TrimSpace(st.s.Tool.Name + " " + st.s.Tool.Version),
+		"CSS":       css,
+		"Body":      template.HTML(body), // goldmark output in safe mode; data escaped before it
+		"HasCharts": hasCharts,
+		"Library":   lib,
+	})
+	return out.Bytes(), err
+}

@@ -1,0 +1,195 @@
+package render
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+)
+
+func TestEscapeMarkdown(t *testing.T) {
+	for _, tc := range []struct{ in, want string }{
+		{"plain words", "plain words"},
+		{"*emph*", `\*emph\*`},
+		{"a | b", `a \| b`},
+		{"[x](javascript:y)", `\[x\]\(javascript\:y\)`},
+		{"<img src=x>", `\<img src\=x\>`},
+		{"```", "\\`\\`\\`"},
+		{"two\nlines\r\n\tand  tabs", "two lines and tabs"},
+		{"# not a heading", `\# not a heading`},
+		{"1. not a list", `1\. not a list`},
+		{"0–17 ünïcode", "0–17 ünïcode"},
+		{`back\slash`, `back\\slash`},
+	} {
+		if got := escapeMarkdown(tc.in); got != tc.want {
+			t.Errorf("escapeMarkdown(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
+
+func TestEscapeValue(t *testing.T) {
+	var nilp *float64
+	for _, tc := range []struct {
+		in      any
+		want    mdText
+		wantErr bool
+	}{
+		{"a*b", `a\*b`, false},
+		{mdText("**kept**"), "**kept**", false},
+		{nilp, "—", false},
+		{fp(0.5), `0\.5`, false},
+		{42, "42", false},
+		{day("2024-03-04"), `2024\-03\-04`, false},
+		{analysis.Estimate{}, "", true},
+		{[]string{"x"}, "", true},
+	} {
+		got, err := escapeValue(tc.in)
+		if (err != nil) != tc.wantErr || got != tc.want {
+			t.Errorf("escapeValue(%#v) = %q, %v; want %q, error %v", tc.in, got, err, tc.want, tc.wantErr)
+		}
+	}
+}
+
+func TestNumberFormats(t *testing.T) {
+	st := &renderState{s: fixtureSummary(), cfg: ReportConfig{SuppressBelow: 5}}
+	e := est(0.8, 0.74, 0.88, 0.70, 0.90)
+	for _, tc := range []struct {
+		name, got, want string
+	}{
+		{"grouping", formatNumber(1234567.891, 2), "1,234,567.89"},
+		{"negative zero", formatNumber(-0.0001, 2), "0.00"},
+		{"negative", formatNumber(-1234, 0), "-1,234"},
+		{"estimate, bca headline", st.estimateText(e, 2, false), "0.80 (95% CI 0.70–0.90)"},
+		{"estimate as percent", st.estimateText(e, 0, true), "80% (95% CI 70%–90%)"},
+		{"open upper bound", st.estimateText(analysis.Estimate{Estimate: fp(3), BCa: [2]*float64{fp(1), nil}}, 1, false), "3.0 (95% CI 1.0 to no upper bound)"},
+		{"no estimate", st.estimateText(analysis.Estimate{}, 2, false), "not estimable"},
+		{"interval", intervalText([2]*float64{fp(6.6), nil}, 1), "6.6–…"},
+		{"count suppressed", countText(ip(3), 5), "<5"},
+		{"count null", countText(nil, 10), "<10"},
+		{"count zero shown", countText(ip(0), 5), "0"},
+		{"count shown", countText(ip(5), 5), "5"},
+		{"day", dayText(day("2024-03-04")), "4 March 2024"},
+		{"ISO week", weekText(day("2024-12-30")), "2025-W01"},
+	} {
+		if tc.got != tc.want {
+			t.Errorf("%s: got %q, want %q", tc.name, tc.got, tc.want)
+		}
+	}
+	st.s.Settings.Interval = "percentile"
+	if got := st.estimateText(e, 2, false); got != "0.80 (95% CI 0.74–0.88)" {
+		t.Errorf("percentile headline: got %q", got)
+	}
+}
+
+func TestParseConfig(t *testing.T) {
+	for _, tc := range []struct {
+		name, yaml, errContains string
+		check                   func(ReportConfig) bool
+	}{
+		{"empty gives defaults", "", "", func(c ReportConfig) bool { return c.SuppressBelow == 5 && len(c.Sections) == 0 }},
+		{"all keys", "jurisdiction: X\ncontact: Y\nsuppress_below: 10\nlabels: {headline: Key facts}\nsections: [headline, cautions]\ncaution: C\nincubation_days: 21\npseudonym_key: k\n", "",
+			func(c ReportConfig) bool {
+				return c.Jurisdiction == "X" && c.SuppressBelow == 10 && c.Labels["headline"] == "Key facts" && *c.IncubationDays == 21 && c.shows("cautions") && !c.shows("outlook")
+			}},
+		{"input belongs to the reader", "input:\n  columns: {case_id: ID}\n  anything: [1, 2]\n", "", func(c ReportConfig) bool { return c.SuppressBelow == 5 }},
+		{"unknown key", "jurisdiction: X\nsupress_below: 3\n", `config.yaml line 2: unknown key "supress_below"`, nil},
+		{"unknown section", "sections: [headline, pie]\n", `unknown section "pie"`, nil},
+		{"unknown label", "labels: {nope: X}\n", `labels: unknown section "nope"`, nil},
+		{"bad threshold", "suppress_below: -1\n", "at least 1", nil},
+		{"not a mapping", "- a\n- b\n", "expected a mapping", nil},
+		{"wrong type", "suppress_below: many\n", "config.yaml", nil},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c, err := ParseConfig("config.yaml", []byte(tc.yaml))
+			if tc.errContains != "" {
+				var ce *ConfigError
+				if err == nil || !errors.As(err, &ce) || !strings.Contains(err.Error(), tc.errContains) {
+					t.Fatalf("error %v, want a *ConfigError containing %q", err, tc.errContains)
+				}
+				return
+			}
+			if err != nil || !tc.check(c) {
+				t.Fatalf("ParseConfig: %+v, %v", c, err)
+			}
+		})
+	}
+}
+
+func TestCSVCell(t *testing.T) {
+	for _, tc := range []struct{ in, want string }{
+		{"=SUM(A1)", "'=SUM(A1)"},
+		{"+1+1", "'+1+1"},
+		{"-1+cmd|' /C calc'!A0", "'-1+cmd|' /C calc'!A0"},
+		{"@SUM(1)", "'@SUM(1)"},
+		{"\tx", "'\tx"},
+		{"\rx", "'\rx"},
+		{"-341.20", "-341.20"},
+		{"12", "12"},
+		{"household", "household"},
+		{"", ""},
+	} {
+		if got := csvCell(tc.in); got != tc.want {
+			t.Errorf("csvCell(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
+
+func TestWriteTables(t *testing.T) {
+	dir := t.TempDir()
+	s := hostileSummary()
+	if err := WriteTables(s, dir); err != nil {
+		t.Fatal(err)
+	}
+	for _, name := range TableNames() {
+		if _, err := os.Stat(filepath.Join(dir, name+".csv")); err != nil {
+			t.Errorf("table %s not written: %v", name, err)
+		}
+	}
+	strata, _ := os.ReadFile(filepath.Join(dir, "strata.csv"))
+	if !strings.Contains(string(strata), `'=HYPERLINK(""http://x"")`) {
+		t.Errorf("formula not neutralised in strata.csv:\n%s", strata)
+	}
+	if !strings.Contains(string(strata), "prison,<5,withheld") {
+		t.Errorf("small count not suppressed in strata.csv:\n%s", strata)
+	}
+	models, _ := os.ReadFile(filepath.Join(dir, "models.csv"))
+	if !strings.Contains(string(models), ",-341.2000,") {
+		t.Errorf("negative number altered in models.csv:\n%s", models)
+	}
+	if err := WriteTables(minimalSummary(), t.TempDir()); err != nil {
+		t.Errorf("minimal summary: %v", err)
+	}
+}
+
+func TestWriteFileAtomic(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "report.html")
+	if err := WriteFileAtomic(p, []byte("one")); err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteFileAtomic(p, []byte("two")); err != nil {
+		t.Fatal(err)
+	}
+	if b, _ := os.ReadFile(p); string(b) != "two" {
+		t.Errorf("content %q, want two", b)
+	}
+	// A failed rename (the target is a non-empty directory) leaves the target and no temp file.
+	target := filepath.Join(dir, "occupied")
+	os.MkdirAll(filepath.Join(target, "inner"), 0o755)
+	if err := WriteFileAtomic(target, []byte("x")); err == nil {
+		t.Error("writing over a directory succeeded")
+	}
+	if fi, err := os.Stat(target); err != nil || !fi.IsDir() {
+		t.Error("the previous directory was disturbed")
+	}
+	left, _ := filepath.Glob(filepath.Join(dir, ".*tmp-*"))
+	if len(left) != 0 {
+		t.Errorf("temporary files left behind: %v", left)
+	}
+	if err := WriteFileAtomic(filepath.Join(dir, "missing", "x"), []byte("x")); err == nil {
+		t.Error("writing into a missing directory succeeded")
+	}
+}
