@@ -1,0 +1,244 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// simulated writes a simulated line list into dir and returns its path.
+func simulated(t *testing.T, dir string, args ...string) string {
+	t.Helper()
+	p := filepath.Join(dir, "list.csv")
+	base := []string{"simulate", "--R", "1.1", "--k", "0.4", "--index-cases", "25", "--until", "2026-03-25", "-o", p}
+	if code, _, stderr := cli(t, append(base, args...)...); code != 0 {
+		t.Fatal(stderr)
+	}
+	return p
+}
+
+func hasKeys(t *testing.T, where string, m map[string]any, keys ...string) {
+	t.Helper()
+	for _, k := range keys {
+		if _, ok := m[k]; !ok {
+			t.Errorf("%s has no %q", where, k)
+		}
+	}
+}
+
+// The estimate --json schema of issues 3 and 4.
+func TestEstimateJSONSchema(t *testing.T) {
+	list := simulated(t, t.TempDir())
+	code, stdout, stderr := cli(t, "estimate", "--as-of", "2026-03-27", "--bootstrap", "200", "--json", "-", list)
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	var doc map[string]any
+	if err := json.Unmarshal([]byte(stdout[strings.Index(stdout, "\n{")+1:]), &doc); err != nil {
+		t.Fatal(err)
+	}
+	hasKeys(t, "summary", doc, "input", "tree", "offspring", "outlook", "as_of", "seed", "tool")
+	o := doc["offspring"].(map[string]any)
+	hasKeys(t, "offspring", o, "n", "censored", "censor_days", "mean", "variance", "histogram", "models",
+		"best_model", "R", "k", "bootstrap", "chain_size_fit", "zero_share", "share_causing_80pct_observed", "superspreaders")
+	for _, m := range o["models"].([]any) {
+		mm := m.(map[string]any)
+		hasKeys(t, "model", mm, "name", "R", "k", "loglik", "aic", "se")
+		hasKeys(t, "se", mm["se"].(map[string]any), "R", "k")
+	}
+	for _, e := range []string{"R", "k"} {
+		hasKeys(t, e, o[e].(map[string]any), "estimate", "percentile", "bca")
+	}
+	hasKeys(t, "bootstrap", o["bootstrap"].(map[string]any), "replicates", "seed", "unit", "level")
+	hasKeys(t, "chain_size_fit", o["chain_size_fit"].(map[string]any), "R", "k", "loglik", "R_ci", "k_ci")
+	ol := doc["outlook"].(map[string]any)
+	hasKeys(t, "outlook", ol, "extinction_probability", "major_outbreak_probability", "share_causing_80pct", "sse_threshold", "active", "projection")
+	for _, p := range ol["projection"].([]any) {
+		hasKeys(t, "projection", p.(map[string]any), "generation", "mean", "p50", "p90")
+	}
+	hasKeys(t, "tool", doc["tool"].(map[string]any), "name", "version")
+}
+
+// Personal columns of an export never reach any output: not the report, its JSON, nor its
+// tables (the brief's privacy standard).
+func TestPersonalColumnsNeverReachOutputs(t *testing.T) {
+	dir := t.TempDir()
+	list := simulated(t, dir, "--contact-columns", "--jurisdictions", "North,South")
+	raw, _ := os.ReadFile(list)
+	rows, err := csv.NewReader(bytes.NewReader(raw)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var personal []string
+	for _, r := range rows[1:] {
+		personal = append(personal, r[8], r[9], r[10]) // full_name, phone, home_address
+	}
+	out := filepath.Join(dir, "r.html")
+	code, _, stderr := cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "100", "-o", out,
+		"--json", filepath.Join(dir, "r.json"), "--tables", filepath.Join(dir, "tables"), list)
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	files := []string{out, filepath.Join(dir, "r.json")}
+	tables, _ := filepath.Glob(filepath.Join(dir, "tables", "*.csv"))
+	if len(tables) == 0 {
+		t.Fatal("no tables written")
+	}
+	files = append(files, tables...)
+	for _, f := range files {
+		b, _ := os.ReadFile(f)
+		for _, p := range personal {
+			if bytes.Contains(b, []byte(p)) {
+				t.Fatalf("%s contains the personal value %q", f, p)
+			}
+		}
+		// Identifiers are pseudonymised by default.
+		if bytes.Contains(b, []byte(rows[1][0]+`"`)) || bytes.Contains(b, []byte(">"+rows[1][0]+"<")) {
+			t.Fatalf("%s shows the raw case identifier %s", f, rows[1][0])
+		}
+	}
+}
+
+// Data values cannot become markup or script in the report, and a formula in a cell is
+// neutralised in the exported tables.
+func TestHostileValuesAreInert(t *testing.T) {
+	dir := t.TempDir()
+	var b strings.Builder
+	b.WriteString("case_id,infector_id,onset_date,setting,age_group,jurisdiction\n")
+	payloads := []string{`<img src=x onerror=alert(1)>`, `</script><script>alert(2)</script>`, `"quoted' <b>bold</b>`, `=HYPERLINK("http://x")`, `*emph* [l](javascript:alert(3))`}
+	id := 0
+	for d := 0; d < 40; d++ {
+		for k, p := range payloads {
+			id++
+			inf := ""
+			if d > 0 {
+				inf = "c" + strconv.Itoa((d-1)*len(payloads)+k+1)
+			}
+			b.WriteString("c" + strconv.Itoa(id) + "," + inf + fmt.Sprintf(",2026-02-%02d,", 1+d%27) + csvQuote(p) + "," + csvQuote(p) + ",North\n")
+		}
+	}
+	list := writeFile(t, dir, "hostile.csv", b.String())
+	out := filepath.Join(dir, "r.html")
+	code, _, stderr := cli(t, "report", "--as-of", "2026-03-10", "--bootstrap", "50", "-o", out, "--tables", filepath.Join(dir, "t"), list)
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	html, _ := os.ReadFile(out)
+	for _, bad := range []string{`<img src=x`, `<script>alert(2)`, `<b>bold</b>`, `href="javascript:`} {
+		if bytes.Contains(html, []byte(bad)) {
+			t.Errorf("the report contains live markup %q", bad)
+		}
+	}
+	// Compare the number of script elements with a report on harmless data.
+	clean := strings.NewReplacer(payloads[0], "a", payloads[1], "b", payloads[2], "c", payloads[3], "d", payloads[4], "e").Replace(b.String())
+	cleanList := writeFile(t, dir, "clean.csv", clean)
+	cleanOut := filepath.Join(dir, "c.html")
+	if code, _, stderr := cli(t, "report", "--as-of", "2026-03-10", "--bootstrap", "50", "-o", cleanOut, cleanList); code != 0 {
+		t.Fatal(stderr)
+	}
+	cleanHTML, _ := os.ReadFile(cleanOut)
+	if n, m := bytes.Count(html, []byte("<script")), bytes.Count(cleanHTML, []byte("<script")); n != m {
+		t.Errorf("%d <script elements with hostile data, %d without", n, m)
+	}
+	tables, _ := filepath.Glob(filepath.Join(dir, "t", "*.csv"))
+	found := false
+	for _, f := range tables {
+		data, _ := os.ReadFile(f)
+		recs, err := csv.NewReader(bytes.NewReader(data)).ReadAll()
+		if err != nil {
+			t.Fatalf("%s: %v", f, err)
+		}
+		for _, r := range recs {
+			for _, cell := range r {
+				if strings.HasPrefix(cell, "=") || strings.HasPrefix(cell, "@") || strings.HasPrefix(cell, "+") {
+					t.Errorf("%s: a cell starts with a formula character: %q", f, cell)
+				}
+				if strings.HasPrefix(cell, "'=HYPERLINK") {
+					found = true
+				}
+			}
+		}
+	}
+	if !found {
+		t.Error("the hostile setting never reached a table, so the neutralisation was not exercised")
+	}
+}
+
+// Issue 5: --by on a three-jurisdiction list writes a report and a JSON per value and an
+// index linking them; two runs are byte-identical.
+func TestReportByJurisdictionDeterministic(t *testing.T) {
+	dir := t.TempDir()
+	list := simulated(t, dir, "--jurisdictions", "Harbour Row,Upper Fenn,Saltmarsh")
+	var outs []string
+	for i := 0; i < 2; i++ {
+		out := filepath.Join(dir, "run"+strconv.Itoa(i))
+		code, _, stderr := cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "200", "--by", "jurisdiction", "-o", out, list)
+		if code != 0 {
+			t.Fatal(stderr)
+		}
+		outs = append(outs, out)
+	}
+	want := []string{"harbour-row.html", "harbour-row.json", "index.html", "saltmarsh.html", "saltmarsh.json", "upper-fenn.html", "upper-fenn.json"}
+	for _, name := range want {
+		a, err := os.ReadFile(filepath.Join(outs[0], name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _ := os.ReadFile(filepath.Join(outs[1], name))
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s differs between two identical runs", name)
+		}
+	}
+	idx, _ := os.ReadFile(filepath.Join(outs[0], "index.html"))
+	for _, link := range []string{`href="harbour-row.html"`, `href="upper-fenn.html"`, `href="saltmarsh.html"`} {
+		if !bytes.Contains(idx, []byte(link)) {
+			t.Errorf("index.html has no %s", link)
+		}
+	}
+	entries, _ := os.ReadDir(outs[0])
+	if len(entries) != len(want) {
+		t.Errorf("%d files written, want %d (no temporary files left)", len(entries), len(want))
+	}
+}
+
+// A failed run leaves the previous report untouched: a template error exits 3, an
+// unwritable output exits 4.
+func TestFailedRunKeepsPreviousReport(t *testing.T) {
+	dir := t.TempDir()
+	list := simulated(t, dir)
+	out := filepath.Join(dir, "r.html")
+	if err := os.WriteFile(out, []byte("previous report"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	tpl := filepath.Join(dir, "tpl")
+	os.MkdirAll(tpl, 0o755)
+	writeFile(t, tpl, "report.md", "# Report\n\nLine two.\n\n{{ .Offspring.NoSuchField }}\n")
+	code, _, stderr := cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "50", "--template", tpl, "-o", out, list)
+	if code != exitTemplate {
+		t.Fatalf("exit %d, want %d: %s", code, exitTemplate, stderr)
+	}
+	for _, want := range []string{"report.md", "5", "NoSuchField"} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("the template error should name %q: %s", want, stderr)
+		}
+	}
+	if b, _ := os.ReadFile(out); string(b) != "previous report" {
+		t.Fatal("the previous report was changed by a failed run")
+	}
+	code, _, stderr = cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "50", "-o", filepath.Join(dir, "no", "such", "dir", "r.html"), list)
+	if code != exitOutput {
+		t.Fatalf("exit %d, want %d: %s", code, exitOutput, stderr)
+	}
+	left, _ := filepath.Glob(filepath.Join(dir, ".*tmp*"))
+	if len(left) != 0 {
+		t.Fatalf("temporary files left behind: %v", left)
+	}
+}
+
+func csvQuote(s string) string { return `"` + strings.ReplaceAll(s, `"`, `""`) + `"` }
