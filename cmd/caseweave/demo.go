@@ -19,6 +19,9 @@ const (
 	demoAsOf  = "2026-11-27" // a Friday: the day the week's reports go out
 	demoUntil = "2026-11-25" // the export is two days behind
 	demoStart = "2026-09-07"
+	// demoIncubationDays is the invented pathogen's longest incubation period, for the
+	// "twice the longest incubation period" rule of thumb.
+	demoIncubationDays = 14
 )
 
 var demoJurisdictions = []string{"Marrowfield", "Ostvale", "Quillan Bay"}
@@ -62,7 +65,7 @@ which the reports never show), and writes one report per jurisdiction plus an in
 			}
 			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), list)
 			rc := newReportCmd(e)
-			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "-o", out, list}
+			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "-o", out, list}
 			if pdf {
 				args = append([]string{"--pdf"}, args...)
 			}

@@ -27,6 +27,7 @@ type reportFlags struct {
 	by        string
 	pdf       bool
 	showIDs   bool
+	incub     int
 }
 
 func newReportCmd(e env) *cobra.Command {
@@ -53,6 +54,7 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 	fl.StringVar(&f.tablesDir, "tables", "", "also write each table of the report as CSV into DIR")
 	fl.StringVar(&f.by, "by", "", "one report per value of this column: jurisdiction, setting or age_group")
 	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
+	fl.IntVar(&f.incub, "incubation-days", 0, "longest incubation period in days, for the end-of-outbreak rule of thumb (overrides the template config's incubation_days)")
 	fl.BoolVar(&f.showIDs, "show-ids", false, "print case identifiers as they are instead of pseudonyms")
 	return c
 }
@@ -91,10 +93,18 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 		}
 		pages = append(pages, p)
 	} else {
+		// With --by, --template DIR may hold one folder per value (DIR/<slug>/report.md);
+		// a value without one uses DIR itself when it is a template, else the default.
+		fallback := tmplRoot
+		if f.template != "" {
+			if _, err := os.Stat(filepath.Join(f.template, render.MainTemplate)); err != nil {
+				fallback = templates.Default()
+			}
+		}
 		for _, v := range strataValues(ld.list.Cases, f.by) {
 			v := v
 			sel := func(cs *linelist.Case) bool { return stratumValue(cs, f.by) == v }
-			fsys := tmplRoot
+			fsys := fallback
 			if f.template != "" {
 				if sub, ok := valueTemplate(f.template, slug(v)); ok {
 					fsys = sub
@@ -127,6 +137,12 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 		return page{}, err
 	}
 	o.SuppressBelow = rc.SuppressBelow
+	if f.incub < 0 {
+		return page{}, usageErrorf("--incubation-days must be positive, got %d", f.incub)
+	}
+	if f.incub > 0 {
+		rc.IncubationDays = &f.incub
+	}
 	if rc.IncubationDays != nil {
 		o.IncubationDays = *rc.IncubationDays
 	}
@@ -271,7 +287,7 @@ func openTemplateDir(dir string) (fs.FS, error) {
 // valueTemplate finds the per-value template folder DIR/<slug>, if it has a report.md.
 func valueTemplate(dir, slug string) (fs.FS, bool) {
 	sub := filepath.Join(dir, slug)
-	if _, err := os.Stat(filepath.Join(sub, "report.md")); err != nil {
+	if _, err := os.Stat(filepath.Join(sub, render.MainTemplate)); err != nil {
 		return nil, false
 	}
 	return os.DirFS(sub), true

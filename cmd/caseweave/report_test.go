@@ -242,3 +242,28 @@ func TestFailedRunKeepsPreviousReport(t *testing.T) {
 }
 
 func csvQuote(s string) string { return `"` + strings.ReplaceAll(s, `"`, `""`) + `"` }
+
+// With --by, a value's own template folder is used when it exists, the default otherwise.
+func TestReportByUsesValueTemplate(t *testing.T) {
+	dir := t.TempDir()
+	list := simulated(t, dir, "--jurisdictions", "Harbour Row,Upper Fenn")
+	root := filepath.Join(dir, "templates")
+	own := filepath.Join(root, "upper-fenn")
+	if err := os.MkdirAll(own, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	writeFile(t, own, "report.md", "# Fenn weekly note\n\nCases: {{ count .Tree.Cases }}.\n")
+	writeFile(t, own, "config.yaml", "jurisdiction: Upper Fenn district\nsuppress_below: 3\n")
+	out := filepath.Join(dir, "out")
+	if code, _, stderr := cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "50", "--by", "jurisdiction", "--template", root, "-o", out, list); code != 0 {
+		t.Fatal(stderr)
+	}
+	fenn, _ := os.ReadFile(filepath.Join(out, "upper-fenn.html"))
+	harbour, _ := os.ReadFile(filepath.Join(out, "harbour-row.html"))
+	if !bytes.Contains(fenn, []byte("Fenn weekly note")) || bytes.Contains(fenn, []byte("Bootstrap distribution")) {
+		t.Error("upper-fenn.html should come from its own template")
+	}
+	if bytes.Contains(harbour, []byte("Fenn weekly note")) || !bytes.Contains(harbour, []byte("How many people each case infected")) {
+		t.Error("harbour-row.html should come from the default template")
+	}
+}
