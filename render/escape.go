@@ -70,3 +70,25 @@ func escapeValue(v any) (mdText, error) {
 	}
 	return mdText(escapeMarkdown(fmt.Sprint(x))), nil
 }
+
+// plainText is s as one line of valid UTF-8: invalid bytes become U+FFFD and runs of
+// whitespace and control characters fold to one space, as in escapeMarkdown. It is for text
+// that html/template writes (chart and fold-out titles, captions, the page's metadata):
+// html/template escapes markup but passes control bytes and invalid UTF-8 through.
+func plainText(s string) string {
+	var b strings.Builder
+	b.Grow(len(s))
+	space := false
+	for _, r := range s {
+		if unicode.IsSpace(r) || unicode.IsControl(r) {
+			space = true
+			continue
+		}
+		if space && b.Len() > 0 {
+			b.WriteByte(' ')
+		}
+		space = false
+		b.WriteRune(r)
+	}
+	return b.String()
+}

@@ -295,7 +295,7 @@ func (st *renderState) fnCaution() mdText {
 }
 
 func (st *renderState) fnFoldout(title string) mdText {
-	return st.marker(&block{kind: blockFoldOpen, title: strings.Join(strings.Fields(title), " ")})
+	return st.marker(&block{kind: blockFoldOpen, title: plainText(title)})
 }
 
 func (st *renderState) fnBox(kind string) (mdText, error) {

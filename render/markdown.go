@@ -177,6 +177,7 @@ func (r *blockRenderer) render(w util.BufWriter, _ []byte, n ast.Node, entering 
 		err = r.tmpl.ExecuteTemplate(w, "box-close", nil)
 	case b.kind == blockChart && entering:
 		for _, c := range b.charts {
+			c.Title, c.Caption = plainText(c.Title), plainText(c.Caption)
 			if err = r.tmpl.ExecuteTemplate(w, "chart", c); err != nil {
 				break
 			}

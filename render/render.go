@@ -213,8 +213,8 @@ func pageHTML(st *renderState, body []byte, css template.CSS) ([]byte, error) {
 	title += " — data to " + dayText(st.s.AsOf)
 	var out bytes.Buffer
 	err = t.Execute(&out, map[string]any{
-		"Title":     title,
-		"Generator": strings.TrimSpace(st.s.Tool.Name + " " + st.s.Tool.Version),
+		"Title":     plainText(title),
+		"Generator": plainText(st.s.Tool.Name + " " + st.s.Tool.Version),
 		"CSS":       css,
 		"Body":      template.HTML(body), // goldmark output in safe mode; data escaped before it
 		"HasCharts": hasCharts,

@@ -14,10 +14,10 @@ type coverageScenario struct {
 	// RefPerc and RefBCa, when set, are R boot's coverage of R on the same scenario, the
 	// reference for a scenario where nominal coverage is out of reach.
 	RefPerc, RefBCa float64
-	R, K     float64
-	Cases    int
-	Datasets int
-	B        int
+	R, K            float64
+	Cases           int
+	Datasets        int
+	B               int
 }
 
 type coverageCounts struct {
