@@ -353,7 +353,13 @@ func markLineX(name string, x float64, dashed bool, color string) map[string]any
 	if dashed {
 		ls["type"] = "dashed"
 	}
-	return map[string]any{"name": name, "xAxis": x, "lineStyle": ls, "label": map[string]any{"formatter": name, "color": color}}
+	label := map[string]any{"formatter": name, "color": color}
+	if dashed {
+		// Interval bounds are labelled along their line, so a bound close to the estimate
+		// does not print over the estimate's label above the plot.
+		label["position"] = "insideEndTop"
+	}
+	return map[string]any{"name": name, "xAxis": x, "lineStyle": ls, "label": label}
 }
 
 func markLineY(name string, y float64, color string) map[string]any {
