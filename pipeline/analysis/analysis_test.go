@@ -35,8 +35,8 @@ func outbreak(t *testing.T, R, k float64, index int, seed uint64, untilDate stri
 	}
 	cases := make([]linelist.Case, len(recs))
 	for i, r := range recs {
-		cases[i] = linelist.Case{ID: r.ID, InfectorID: r.InfectorID, Onset: r.Onset, Imported: r.Imported,
-			Jurisdiction: r.Jurisdiction, Setting: r.Setting, AgeGroup: r.AgeGroup, Row: i + 2}
+		cases[i] = linelist.Case{ID: r.ID, InfectorID: r.InfectorID, Onset: r.Onset, Imported: r.Imported, Row: i + 2,
+			Strata: &linelist.Strata{Jurisdiction: r.Jurisdiction, Setting: r.Setting, AgeGroup: r.AgeGroup}}
 	}
 	return cases, recs
 }

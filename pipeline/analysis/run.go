@@ -137,6 +137,12 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	if err := opts.defaults(); err != nil {
 		return nil, fmt.Errorf("%w: %v", ErrOptions, err)
 	}
+	none := linelist.NoStrata()
+	for i := range ll.Cases {
+		if ll.Cases[i].Strata == nil {
+			ll.Cases[i].Strata = none // cases built by hand may lack strata
+		}
+	}
 	s := CheckSummary(path, ll, f, opts.AsOf)
 	s.Seed = opts.Seed
 	s.Scope = opts.Scope

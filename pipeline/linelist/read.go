@@ -129,6 +129,7 @@ type reader struct {
 	in     InputConfig
 	asOf   Day
 	intern map[string]string
+	strata map[Strata]*Strata
 	enc    *textDecoder
 }
 
@@ -207,6 +208,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		in:     in,
 		asOf:   opts.AsOf,
 		intern: map[string]string{},
+		strata: map[Strata]*Strata{},
 		enc:    dec,
 	}
 	ll := rd.ll
@@ -382,9 +384,16 @@ func (rd *reader) row(rec []string, line int) {
 		rd.problem(line, ColImported, CodeBadValue, SeverityWarning, fmt.Sprintf("imported %q is not one of yes, no, true, false, 1, 0, y, n (or blank); read as not imported", clip(v)))
 	}
 
-	c.Setting = rd.stratum(rec, ciSetting, ColSetting, line)
-	c.AgeGroup = rd.stratum(rec, ciAgeGroup, ColAgeGroup, line)
-	c.Jurisdiction = rd.stratum(rec, ciJurisdiction, ColJurisdiction, line)
+	st := Strata{
+		Setting:      rd.stratum(rec, ciSetting, ColSetting, line),
+		AgeGroup:     rd.stratum(rec, ciAgeGroup, ColAgeGroup, line),
+		Jurisdiction: rd.stratum(rec, ciJurisdiction, ColJurisdiction, line),
+	}
+	c.Strata = rd.strata[st]
+	if c.Strata == nil {
+		c.Strata = &st
+		rd.strata[st] = c.Strata
+	}
 
 	if reject {
 		ll.Rejected++

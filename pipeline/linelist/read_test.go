@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"testing"
 )
@@ -560,7 +561,7 @@ func TestReadFileMatchesRead(t *testing.T) {
 	if a.SHA256 != hex.EncodeToString(sum[:]) || b.SHA256 != "" {
 		t.Errorf("SHA256 %q / %q", a.SHA256, b.SHA256)
 	}
-	if len(a.Cases) != 5000 || fmt.Sprint(a.Cases) != fmt.Sprint(b.Cases) {
+	if len(a.Cases) != 5000 || !reflect.DeepEqual(a.Cases, b.Cases) {
 		t.Errorf("ReadFile and Read disagree: %d vs %d cases", len(a.Cases), len(b.Cases))
 	}
 }
