@@ -56,7 +56,7 @@ func (st *renderState) funcs() template.FuncMap {
 		"contact":      func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
 		"caution":      st.fnCaution,
 		"caseid":       func(id string) mdText { return mdText(escapeMarkdown(st.pseudonym(id))) },
-		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(problemMeaning(c))) },
+		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(analysis.ProblemMeaning(c))) },
 		"threshold":    func() int { return st.cfg.suppress() },
 		"value":        fnValue,
 		"windowsource": func() mdText { return mdText(escapeMarkdown(windowSource(st.s.Settings.CensorDaysSource))) },
@@ -350,32 +350,6 @@ func (st *renderState) pseudonym(id string) string {
 	return p
 }
 
-// problemMeaning explains a problem code in plain words.
-func problemMeaning(c linelist.Code) string {
-	switch c {
-	case linelist.CodeFieldCount:
-		return "row has the wrong number of columns (row not used)"
-	case linelist.CodeMissingID:
-		return "case identifier is blank (row not used)"
-	case linelist.CodeDuplicateID:
-		return "case identifier seen before (later row not used)"
-	case linelist.CodeBadDate:
-		return "a date could not be read"
-	case linelist.CodeBadValue:
-		return "a value outside the column's allowed values (value dropped)"
-	case linelist.CodeUnknownInfector:
-		return "infector names no known case (link dropped)"
-	case linelist.CodeSelfInfector:
-		return "case names itself as infector (link dropped)"
-	case linelist.CodeCycle:
-		return "links form a loop (links on the loop dropped)"
-	case linelist.CodeOnsetBeforeInfector:
-		return "onset before the infector's onset (link kept)"
-	case linelist.CodeFutureOnset:
-		return "onset after the analysis date (case kept)"
-	}
-	return string(c)
-}
 
 // fnValue unwraps a nullable number for comparisons ({{ if lt (value .K.Estimate) 1.0 }});
 // guard it with {{ with }} or {{ if }}: a null is an error, not a silent zero.

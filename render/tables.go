@@ -83,7 +83,7 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 			for i, r := range p.FirstRows {
 				rows[i] = strconv.Itoa(r)
 			}
-			t.Rows = append(t.Rows, []string{string(p.Code), problemMeaning(p.Code), string(p.Severity), f.int(p.Count), strings.Join(rows, " ")})
+			t.Rows = append(t.Rows, []string{string(p.Code), analysis.ProblemMeaning(p.Code), string(p.Severity), f.int(p.Count), strings.Join(rows, " ")})
 		}
 	case "estimates":
 		o := s.Offspring

@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/internal/numeric"
 	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -66,7 +67,7 @@ func majorOutbreak(d offspring.Distribution) (float64, error) {
 		// R exceeds 1 by less than double precision can resolve: 1 − q underflows.
 		return 0, nil
 	}
-	u, err := brentRoot(h, lo, hi, 0, 500)
+	u, err := numeric.Brent(h, lo, hi, 0, 500)
 	if err != nil {
 		return math.NaN(), err
 	}

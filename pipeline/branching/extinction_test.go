@@ -16,40 +16,6 @@ func mustEmpirical(t testing.TB, p []float64, normalize bool) offspring.Empirica
 	return e
 }
 
-func TestBrentRoot(t *testing.T) {
-	cases := []struct {
-		name     string
-		f        func(float64) float64
-		a, b     float64
-		want     float64
-		tol      float64
-		errIsNil bool
-	}{
-		// Closed form: x² − 2 = 0 at √2.
-		{"sqrt2", func(x float64) float64 { return x*x - 2 }, 0, 2, math.Sqrt2, 4e-16, true},
-		// Dottie number cos x = x: 0.7390851332151607 (recalled from memory; checked by the
-		// residual below).
-		{"dottie", func(x float64) float64 { return math.Cos(x) - x }, 0, 1, 0.7390851332151607, 2e-16, true},
-		// Closed form: e^x = 10 at ln 10.
-		{"ln10", func(x float64) float64 { return math.Exp(x) - 10 }, -5, 50, math.Ln10, 1e-15, true},
-		{"no bracket", func(x float64) float64 { return x*x + 1 }, -1, 1, math.NaN(), 0, false},
-	}
-	for _, c := range cases {
-		t.Run(c.name, func(t *testing.T) {
-			got, err := brentRoot(c.f, c.a, c.b, 0, 200)
-			if (err == nil) != c.errIsNil {
-				t.Fatalf("err = %v, want nil: %v", err, c.errIsNil)
-			}
-			if !c.errIsNil {
-				return
-			}
-			if !near(got, c.want, c.tol) {
-				t.Errorf("root %v, want %v", got, c.want)
-			}
-		})
-	}
-}
-
 func TestExtinctionProbability(t *testing.T) {
 	ref := loadReference(t)
 	type tc struct {

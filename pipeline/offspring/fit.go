@@ -3,6 +3,7 @@ package offspring
 import (
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/internal/numeric"
 	"math"
 	"math/big"
 	"math/bits"
@@ -347,7 +348,7 @@ func nbDispersion(values, counts []int, n, sum float64) (k float64, finite bool,
 			glo = g(lo)
 		}
 	}
-	u, err := brentRoot(g, lo, hi, glo, ghi, 1e-13)
+	u, err := numeric.Brent(g, lo, hi, 1e-13, 200)
 	if err != nil {
 		return 0, false, fmt.Errorf("negative binomial fit: %w", err)
 	}
@@ -411,73 +412,4 @@ func nbInfoK(values, counts []int, n, sum, R, k float64) float64 {
 		acc += float64(counts[i]) * (zk - mathext.Zeta(2, float64(x)+k))
 	}
 	return acc - n/k + n/(k+R) - d/((k+R)*(k+R))
-}
-
-// brentRoot finds a root of f in [a, b], f(a)·f(b) < 0, by Brent's method (Brent 1973,
-// Algorithms for Minimization without Derivatives, ch. 4, procedure zero): inverse quadratic
-// interpolation or secant steps, falling back to bisection, to an absolute tolerance tol.
-func brentRoot(f func(float64) float64, a, b, fa, fb, tol float64) (float64, error) {
-	if math.IsNaN(fa) || math.IsNaN(fb) {
-		return 0, errors.New("the score is not a number at the bracket ends")
-	}
-	if fa*fb > 0 {
-		return 0, fmt.Errorf("root not bracketed in [%g, %g]", a, b)
-	}
-	c, fc := a, fa
-	d := b - a
-	e := d
-	for iter := 0; iter < 200; iter++ {
-		if fb*fc > 0 {
-			c, fc = a, fa
-			d = b - a
-			e = d
-		}
-		if math.Abs(fc) < math.Abs(fb) {
-			a, b, c = b, c, b
-			fa, fb, fc = fb, fc, fb
-		}
-		tol1 := 2*2.220446049250313e-16*math.Abs(b) + 0.5*tol
-		xm := 0.5 * (c - b)
-		if math.Abs(xm) <= tol1 || fb == 0 {
-			return b, nil
-		}
-		if math.Abs(e) >= tol1 && math.Abs(fa) > math.Abs(fb) {
-			s := fb / fa
-			var p, q float64
-			if a == c {
-				p = 2 * xm * s
-				q = 1 - s
-			} else {
-				qq := fa / fc
-				r := fb / fc
-				p = s * (2*xm*qq*(qq-r) - (b-a)*(r-1))
-				q = (qq - 1) * (r - 1) * (s - 1)
-			}
-			if p > 0 {
-				q = -q
-			}
-			p = math.Abs(p)
-			if 2*p < math.Min(3*xm*q-math.Abs(tol1*q), math.Abs(e*q)) {
-				e = d
-				d = p / q
-			} else {
-				d = xm
-				e = d
-			}
-		} else {
-			d = xm
-			e = d
-		}
-		a, fa = b, fb
-		if math.Abs(d) > tol1 {
-			b += d
-		} else {
-			b += math.Copysign(tol1, xm)
-		}
-		fb = f(b)
-		if math.IsNaN(fb) {
-			return 0, fmt.Errorf("the score is not a number at %g", b)
-		}
-	}
-	return 0, errors.New("Brent's method did not converge in 200 iterations")
 }

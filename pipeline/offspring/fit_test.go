@@ -296,26 +296,3 @@ func TestModelFitJSON(t *testing.T) {
 		t.Errorf("NB JSON %s does not round-trip k", b)
 	}
 }
-
-// TestBrentRoot checks the root finder on closed-form roots.
-func TestBrentRoot(t *testing.T) {
-	cases := []struct {
-		name string
-		f    func(float64) float64
-		a, b float64
-		want float64
-	}{
-		{"x² − 2", func(x float64) float64 { return x*x - 2 }, 0, 2, math.Sqrt2},
-		{"cos x − x (Dottie number, 0.739085133215161 recalled)", func(x float64) float64 { return math.Cos(x) - x }, 0, 1, 0.7390851332151607},
-		{"e^x − 10", func(x float64) float64 { return math.Exp(x) - 10 }, -5, 5, math.Log(10)},
-	}
-	for _, c := range cases {
-		got, err := brentRoot(c.f, c.a, c.b, c.f(c.a), c.f(c.b), 1e-14)
-		if err != nil || math.Abs(got-c.want) > 1e-12 {
-			t.Errorf("%s: got %v (%v), want %v", c.name, got, err, c.want)
-		}
-	}
-	if _, err := brentRoot(func(x float64) float64 { return x*x + 1 }, -1, 1, 2, 2, 1e-12); err == nil {
-		t.Error("unbracketed root: want an error")
-	}
-}

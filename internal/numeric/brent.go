@@ -1,20 +1,22 @@
-package branching
+// Package numeric holds the small numerical routines that several pipeline stages share and
+// gonum does not export: a bracketed scalar root finder.
+package numeric
 
 import (
 	"fmt"
 	"math"
 )
 
-// brentRoot finds a root of f in [a, b], where f(a) and f(b) have opposite signs (or one is
+// Brent finds a root of f in [a, b], where f(a) and f(b) have opposite signs (or one is
 // zero), by Brent's method: inverse quadratic interpolation and secant steps, falling back
 // to bisection whenever they do not shrink the bracket fast enough, so it never leaves the
 // bracket and converges at least as fast as bisection [Brent 1973, "Algorithms for
 // Minimization without Derivatives", ch. 4; the "zeroin" algorithm]. The root is located to
 // within 2·eps·|x| + tol/2.
-func brentRoot(f func(float64) float64, a, b, tol float64, maxIter int) (float64, error) {
+func Brent(f func(float64) float64, a, b, tol float64, maxIter int) (float64, error) {
 	fa, fb := f(a), f(b)
 	if math.IsNaN(fa) || math.IsNaN(fb) {
-		return math.NaN(), fmt.Errorf("branching: root finder: function is NaN at the bracket ends")
+		return math.NaN(), fmt.Errorf("root finder: function is NaN at the bracket ends")
 	}
 	if fa == 0 {
 		return a, nil
@@ -23,7 +25,7 @@ func brentRoot(f func(float64) float64, a, b, tol float64, maxIter int) (float64
 		return b, nil
 	}
 	if (fa > 0) == (fb > 0) {
-		return math.NaN(), fmt.Errorf("branching: root finder: f(%g) = %g and f(%g) = %g do not bracket a root", a, fa, b, fb)
+		return math.NaN(), fmt.Errorf("root finder: f(%g) = %g and f(%g) = %g do not bracket a root", a, fa, b, fb)
 	}
 	const eps = 0x1p-52
 	c, fc := a, fa
@@ -81,8 +83,8 @@ func brentRoot(f func(float64) float64, a, b, tol float64, maxIter int) (float64
 		}
 		fb = f(b)
 		if math.IsNaN(fb) {
-			return math.NaN(), fmt.Errorf("branching: root finder: function is NaN at %g", b)
+			return math.NaN(), fmt.Errorf("root finder: function is NaN at %g", b)
 		}
 	}
-	return b, fmt.Errorf("branching: root finder did not converge in %d iterations", maxIter)
+	return b, fmt.Errorf("root finder did not converge in %d iterations", maxIter)
 }
