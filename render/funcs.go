@@ -350,7 +350,6 @@ func (st *renderState) pseudonym(id string) string {
 	return p
 }
 
-
 // fnValue unwraps a nullable number for comparisons ({{ if lt (value .K.Estimate) 1.0 }});
 // guard it with {{ with }} or {{ if }}: a null is an error, not a silent zero.
 func fnValue(v any) (float64, error) {

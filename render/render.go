@@ -141,10 +141,25 @@ func chartScript() (template.JS, error) {
 	js := "/*! Apache ECharts 5.4.3, inlined unchanged from the npm package dist/echarts.min.js.\n" +
 		notice + "\nLicensed under the Apache License, Version 2.0; the full licence text ships with caseweave (render/assets/echarts/LICENSE). */\n" +
 		echartsJS
-	if strings.Contains(strings.ToLower(js), "</script") || strings.Contains(js, "<!--") {
+	if hasScriptEnd(js) || strings.Contains(js, "<!--") {
 		return "", errors.New("render: embedded chart library contains a script terminator")
 	}
 	return template.JS(js), nil // embedded asset, checked above
+}
+
+// hasScriptEnd reports whether s holds "</script" in any letter case. It looks only at each
+// "</", so the megabyte of the chart library is not lower-cased on every render.
+func hasScriptEnd(s string) bool {
+	for {
+		i := strings.Index(s, "</")
+		if i < 0 {
+			return false
+		}
+		s = s[i+2:]
+		if len(s) >= len("script") && strings.EqualFold(s[:len("script")], "script") {
+			return true
+		}
+	}
 }
 
 // pageTemplate is the HTML shell. The Content-Security-Policy forbids every fetch; only the
