@@ -331,7 +331,7 @@ func (st *renderState) chartOffspring(o *analysis.Offspring) ([]chartSpec, strin
 			}
 		}
 		line := charts.NewLine()
-		line.AddSeries("Expected, "+m.Name, data, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+		line.AddSeries("Expected, "+modelName(m.Name), data, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 			s.Symbol = "circle"
 			s.SymbolSize = 5
 		}))
@@ -708,7 +708,7 @@ func (st *renderState) chartSerialInterval(si *analysis.SerialInterval) ([]chart
 			dens[i] = opts.LineData{Value: []float64{round(f.v(p.X, "a density point"), 3), round(f.v(p.Y, "a density point")*float64(si.N), 3)}}
 		}
 		line := charts.NewLine()
-		line.AddSeries("Fitted "+si.BestModel, dens, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+		line.AddSeries("Fitted "+modelName(si.BestModel), dens, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 			s.ShowSymbol = opts.Bool(false)
 			s.Smooth = opts.Bool(true)
 			s.LineStyle = &opts.LineStyle{Width: 2, Color: colInk}
@@ -717,7 +717,7 @@ func (st *renderState) chartSerialInterval(si *analysis.SerialInterval) ([]chart
 		bar.Overlap(line)
 	}
 	obj, err := finish("serial_interval", f, bar, nil)
-	caption := fmt.Sprintf("%d infector–infectee pairs with both onset dates. Red bars: the infectee fell ill first (%d pairs). Line: the fitted %s distribution scaled to the number of pairs.", si.N, si.Negative, si.BestModel)
+	caption := fmt.Sprintf("%d infector–infectee pairs with both onset dates. Red bars: the infectee fell ill first (%d pairs). Line: the fitted %s distribution scaled to the number of pairs.", si.N, si.Negative, modelName(si.BestModel))
 	return one(chartSpec{ID: id, Title: "Serial interval", Caption: caption, Height: chartHeight, Option: obj}, err)
 }
 

@@ -92,3 +92,17 @@ func plainText(s string) string {
 	}
 	return b.String()
 }
+
+// modelName is how a report writes a model's name: the summary's identifiers
+// ("negative_binomial") in the words of the trade ("negative binomial").
+func modelName(id string) string {
+	switch id {
+	case "poisson":
+		return "Poisson"
+	case "negative_binomial":
+		return "negative binomial"
+	case "weibull":
+		return "Weibull"
+	}
+	return id
+}

@@ -56,6 +56,7 @@ func (st *renderState) funcs() template.FuncMap {
 		"contact":      func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
 		"caution":      st.fnCaution,
 		"caseid":       func(id string) mdText { return mdText(escapeMarkdown(st.pseudonym(id))) },
+		"model":        func(id string) mdText { return mdText(escapeMarkdown(modelName(id))) },
 		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(analysis.ProblemMeaning(c))) },
 		"threshold":    func() int { return st.cfg.suppress() },
 		"value":        fnValue,

@@ -118,7 +118,7 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 		t.Header = []string{"Model", "R", "k", "SE of R", "SE of k", "Log-likelihood", "AIC", "ΔAIC"}
 		t.Numeric = []bool{false, true, true, true, true, true, true, true}
 		for _, m := range s.Offspring.Models {
-			n := m.Name
+			n := modelName(m.Name)
 			if m.Name == s.Offspring.BestModel {
 				n += " (best)"
 			}
@@ -238,7 +238,7 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 			for i, k := range keys {
 				ps[i] = k + " = " + f.num(m.Params[k], 3)
 			}
-			n := m.Name
+			n := modelName(m.Name)
 			if m.Name == si.BestModel {
 				n += " (best)"
 			}
