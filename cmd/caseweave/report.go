@@ -272,7 +272,8 @@ func marshalJSON(v any) ([]byte, error) {
 }
 
 // openTemplateDir returns the template folder's file system (the embedded default when
-// dir is empty). Templates read only inside it: os.DirFS refuses paths that leave it.
+// dir is empty). Templates read only inside it: the folder is opened as an os.Root, which
+// refuses paths — and symbolic links — that lead outside it.
 func openTemplateDir(dir string) (fs.FS, error) {
 	if dir == "" {
 		return templates.Default(), nil
@@ -281,7 +282,11 @@ func openTemplateDir(dir string) (fs.FS, error) {
 	if err != nil || !st.IsDir() {
 		return nil, usageErrorf("--template %q is not a folder", dir)
 	}
-	return os.DirFS(dir), nil
+	root, err := os.OpenRoot(dir)
+	if err != nil {
+		return nil, usageErrorf("--template %q cannot be opened: %v", dir, err)
+	}
+	return root.FS(), nil
 }
 
 // valueTemplate finds the per-value template folder DIR/<slug>, if it has a report.md.
@@ -290,7 +295,11 @@ func valueTemplate(dir, slug string) (fs.FS, bool) {
 	if _, err := os.Stat(filepath.Join(sub, render.MainTemplate)); err != nil {
 		return nil, false
 	}
-	return os.DirFS(sub), true
+	fsys, err := openTemplateDir(sub)
+	if err != nil {
+		return nil, false
+	}
+	return fsys, true
 }
 
 func isStratumColumn(c string) bool {

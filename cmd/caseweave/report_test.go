@@ -267,3 +267,28 @@ func TestReportByUsesValueTemplate(t *testing.T) {
 		t.Error("harbour-row.html should come from the default template")
 	}
 }
+
+// A template cannot read a file outside its folder, not even through a symbolic link
+// (issue 7): the folder is opened as an os.Root.
+func TestTemplateSymlinkCannotEscape(t *testing.T) {
+	dir := t.TempDir()
+	list := simulated(t, dir)
+	secret := writeFile(t, dir, "secret.md", "TOP-SECRET-CONTENT\n")
+	tpl := filepath.Join(dir, "tpl")
+	os.MkdirAll(filepath.Join(tpl, "partials"), 0o755)
+	writeFile(t, tpl, "report.md", "# Report\n\n{{ partial \"partials/evil.md\" . }}\n")
+	if err := os.Symlink(secret, filepath.Join(tpl, "partials", "evil.md")); err != nil {
+		t.Skip("no symlinks here:", err)
+	}
+	out := filepath.Join(dir, "r.html")
+	code, _, stderr := cli(t, "report", "--as-of", "2026-03-27", "--bootstrap", "20", "--template", tpl, "-o", out, list)
+	if code != exitTemplate {
+		t.Fatalf("exit %d, want %d (%s)", code, exitTemplate, stderr)
+	}
+	if b, err := os.ReadFile(out); err == nil && bytes.Contains(b, []byte("TOP-SECRET")) {
+		t.Fatal("the template read a file outside its folder")
+	}
+	if !strings.Contains(stderr, "evil.md") {
+		t.Errorf("the error should name the partial: %s", stderr)
+	}
+}
