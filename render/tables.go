@@ -61,6 +61,9 @@ func (f cellFmt) interval(b [2]*float64, digits int) string {
 	return lo + " to " + hi
 }
 
+// superspreadersShown caps the superspreader table.
+const superspreadersShown = 25
+
 // TableNames lists the tables a template can ask for with table "name", in report order.
 func TableNames() []string {
 	return []string{"problems", "estimates", "models", "strata", "superspreaders", "cluster_sizes",
@@ -142,10 +145,21 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 		if s.Offspring == nil || len(s.Offspring.Superspreaders) == 0 {
 			return t, false, nil
 		}
-		t.Header = []string{"Case", "Why listed"}
-		why := fmt.Sprintf("infected more than %d others", s.Offspring.SSEThreshold)
-		for _, id := range s.Offspring.Superspreaders {
-			t.Rows = append(t.Rows, []string{st.pseudonym(id), why})
+		// The cases who infected most, capped so that a national list does not print tens of
+		// thousands of rows; the last row says how many more there are.
+		t.Header = []string{"Case", "People infected"}
+		t.Numeric = []bool{false, true}
+		o := s.Offspring
+		for k, id := range o.Superspreaders {
+			if k == superspreadersShown {
+				t.Rows = append(t.Rows, []string{fmt.Sprintf("and %s more", f.int(len(o.Superspreaders)-k)), fmt.Sprintf("more than %d each", o.SSEThreshold)})
+				break
+			}
+			n := fmt.Sprintf("more than %d", o.SSEThreshold)
+			if k < len(o.SuperspreaderOffspring) {
+				n = f.int(o.SuperspreaderOffspring[k])
+			}
+			t.Rows = append(t.Rows, []string{st.pseudonym(id), n})
 		}
 	case "cluster_sizes":
 		if s.Clusters == nil || len(s.Clusters.SizeHistogram) == 0 {

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/branching"
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/simulate"
@@ -75,10 +76,12 @@ func BenchmarkIngestForest1M(b *testing.B) {
 	var f *forest.Forest
 	var held float64
 	for b.Loop() {
+		b.StopTimer() // the collection of the previous iteration's result is not timed
 		ll, f = nil, nil
 		runtime.GC()
 		var before, after runtime.MemStats
 		runtime.ReadMemStats(&before)
+		b.StartTimer()
 		var err error
 		ll, err = linelist.ReadFile(path, linelist.Options{})
 		if err != nil {
@@ -121,4 +124,43 @@ func BenchmarkRunRender1M(b *testing.B) {
 		size = len(html)
 	}
 	b.ReportMetric(float64(size), "html_bytes")
+}
+
+// BenchmarkChainSizeFit1M is the stage that dominates the 1M-case report (see BENCHMARKS.md):
+// the chain-size fit over the file's clusters, censored as analysis.Run censors them (the
+// serial interval's 95th percentile, 10 days here, before the day after the last onset),
+// and 8 of the report's 500 cluster-bootstrap replicates with the workers value the report
+// passes (0).
+func BenchmarkChainSizeFit1M(b *testing.B) {
+	ll, err := linelist.ReadFile(scaleLineList(b), linelist.Options{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	f := forest.Build(ll.Cases)
+	asOf := lastOnset(ll) + 1
+	var obs []branching.ChainObservation
+	censored := 0
+	for _, c := range f.Clusters {
+		o := branching.ChainObservation{Size: c.Size, Censored: int(asOf-c.LastOnset) < 10}
+		if o.Censored {
+			censored++
+		}
+		obs = append(obs, o)
+	}
+	b.Run("fit", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := branching.FitChainSizes(obs); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.ReportMetric(float64(len(obs)), "clusters")
+		b.ReportMetric(float64(censored), "censored")
+	})
+	b.Run("bootstrap8", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := branching.BootstrapChainFit(obs, 8, 0.95, 4, 0); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
 }

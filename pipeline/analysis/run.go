@@ -431,10 +431,17 @@ func (a *run) offspring() {
 	}
 	o.ShareCausing80pctObserved = finite(offspring.ObservedShare(t, a.o.Share))
 	o.SSEThreshold = offspring.SuperspreadingThreshold(a.fit.R)
+	var sse []int32
 	for _, i := range used {
 		if int(a.counts[i]) > o.SSEThreshold {
-			o.Superspreaders = append(o.Superspreaders, a.cases[i].ID)
+			sse = append(sse, i)
 		}
+	}
+	sort.SliceStable(sse, func(x, y int) bool { return a.counts[sse[x]] > a.counts[sse[y]] })
+	o.SuperspreaderOffspring = make([]int, len(sse))
+	for k, i := range sse {
+		o.Superspreaders = append(o.Superspreaders, a.cases[i].ID)
+		o.SuperspreaderOffspring[k] = int(a.counts[i])
 	}
 	for _, p := range offspring.ConcentrationCurve(t) {
 		o.Concentration = append(o.Concentration, CurvePoint{X: p.CaseShare, Y: p.TransmissionShare})

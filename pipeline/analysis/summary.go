@@ -121,8 +121,11 @@ type Offspring struct {
 
 	ZeroShare                 float64  `json:"zero_share"`
 	ShareCausing80pctObserved *float64 `json:"share_causing_80pct_observed"`
-	Superspreaders            []string `json:"superspreaders"`
-	SSEThreshold              int      `json:"sse_threshold"`
+	// Superspreaders are the cases with more offspring than SSEThreshold, most offspring
+	// first; SuperspreaderOffspring[i] is the offspring count of Superspreaders[i].
+	Superspreaders         []string `json:"superspreaders"`
+	SuperspreaderOffspring []int    `json:"superspreader_offspring"`
+	SSEThreshold           int      `json:"sse_threshold"`
 
 	// Concentration is the observed concentration curve (share of cases, largest spreaders
 	// first, against share of transmission).
