@@ -70,9 +70,14 @@ const (
 	// chainReplicates caps the cluster bootstrap of the chain-size fit, whose every
 	// replicate is a two-parameter numerical maximisation.
 	chainReplicates = 500
-	treesShown      = 6
-	nodesPerTree    = 120
-	eooHorizon      = 60
+	// chainEvaluationsPerFit is about how many likelihood evaluations one Nelder–Mead refit
+	// of the chain-size model takes, and chainBootstrapBudget the chain-size log-probabilities
+	// a bootstrap may compute in all (about a minute of one core): beyond it, Wald intervals.
+	chainEvaluationsPerFit = 450
+	chainBootstrapBudget   = 1_000_000_000
+	treesShown             = 6
+	nodesPerTree           = 120
+	eooHorizon             = 60
 )
 
 func (o *Options) defaults() error {
@@ -507,11 +512,28 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 		return nil
 	}
 	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true}
-	bs, err := branching.BootstrapChainFit(obs, min(a.o.Replicates, chainReplicates), a.o.Level, a.o.Seed+streamChain, a.o.Workers)
+	// The cluster bootstrap refits the model hundreds of times; with very large censored
+	// clusters each likelihood evaluation sums tens of thousands of terms, and then
+	// large-sample (Wald) intervals from the observed information stand in for it.
+	B := min(a.o.Replicates, chainReplicates)
+	cost, _ := branching.ChainFitCost(obs)
+	if int64(cost)*chainEvaluationsPerFit*int64(B) > chainBootstrapBudget {
+		w, err := branching.WaldChainFit(obs, fit, a.o.Level)
+		if err != nil {
+			a.note("No intervals for the chain-size fit: %v.", err)
+			return out
+		}
+		out.IntervalMethod = "wald_log"
+		out.RCI = [2]*float64{finite(w.RLo), finite(w.RHi)}
+		out.KCI = [2]*float64{w.KLo, w.KHi}
+		return out
+	}
+	bs, err := branching.BootstrapChainFit(obs, B, a.o.Level, a.o.Seed+streamChain, a.o.Workers)
 	if err != nil {
 		a.note("No intervals for the chain-size fit: %v.", err)
 		return out
 	}
+	out.IntervalMethod, out.Replicates = "cluster_bootstrap", B
 	out.RCI = [2]*float64{finite(bs.RLo), finite(bs.RHi)}
 	out.KCI = [2]*float64{bs.KLo, bs.KHi}
 	return out

@@ -174,6 +174,11 @@ type ChainSizeFit struct {
 	Clusters  int         `json:"clusters"`
 	Censored  int         `json:"censored"`
 	Converged bool        `json:"converged"`
+	// IntervalMethod is "cluster_bootstrap" (percentile, Replicates replicates) or, when
+	// censored clusters are so large that refitting is too costly, "wald_log" (log-scale
+	// large-sample intervals from the observed information).
+	IntervalMethod string `json:"interval_method"`
+	Replicates     int    `json:"replicates"`
 }
 
 // Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]);

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"sort"
 	"sync"
 
@@ -151,6 +152,10 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 	ll := 0.0
 	var cum neumaier
 	next := 1 // cum holds Σ_{j<next} P(Y = j)
+	// Attempts at the upper tail may cost, in all, no more terms than the sum from below
+	// does; near R = 1 the tail never converges in time, and without a budget every large
+	// censored cluster would first pay for a failed attempt.
+	budget := t.maxCens
 	for _, c := range t.classes {
 		if !c.censored {
 			ll += float64(c.count) * logp(c.size)
@@ -159,7 +164,7 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 		if c.size > largeCensoredCluster {
 			// P(Y ≥ y) = (1 − q) + Σ_{j≥y} P(Y = j): for a large y the sum from y up usually
 			// converges in far fewer terms than the y − 1 terms below it.
-			if tail, ok := upperTail(logp, c.size, 1-extinction()); ok {
+			if tail, ok := upperTail(logp, c.size, 1-extinction(), &budget); ok {
 				ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
 				continue
 			}
@@ -188,17 +193,21 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 const largeCensoredCluster = 200
 
 // upperTail returns base + Σ_{j≥y} exp(logp(j)), summed until a term falls below 1e-14 of
-// the total (a log-likelihood needs no more), and false when that would take more terms
-// than the y/2 that the sum from below costs (a tail that decays slowly, as near R = 1).
-func upperTail(logp func(int) float64, y int, base float64) (float64, bool) {
+// the total (a log-likelihood needs no more), and false when that would take more than y/2
+// terms, or more than *budget, which it reduces by the terms it used (a tail that decays
+// slowly, as near R = 1, is cheaper summed from below).
+func upperTail(logp func(int) float64, y int, base float64, budget *int) (float64, bool) {
 	var s neumaier
-	for j := y; j < y+y/2; j++ {
+	limit := min(y/2, *budget)
+	for j := y; j < y+limit; j++ {
 		p := math.Exp(logp(j))
 		s.add(p)
 		if p <= 1e-14*(base+s.sum()) {
+			*budget -= j - y + 1
 			return base + s.sum(), true
 		}
 	}
+	*budget -= max(limit, 0)
 	return 0, false
 }
 
@@ -354,6 +363,9 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 		}
 		starts = &fitStarts{borel: []float64{f0.R}, negbin: [][2]float64{{f0.R, k0}}, ftol: 1e-9}
 	}
+	if workers < 1 {
+		workers = runtime.GOMAXPROCS(0)
+	}
 	workers = max(1, min(workers, B))
 	out := &ChainBootstrap{Replicates: B, Level: level, R: make([]float64, B), K: make([]float64, B)}
 	jobs := make(chan int)
@@ -414,3 +426,76 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 	out.KLo, out.KHi = finitePtr(quantileSorted(ks, lo)), finitePtr(quantileSorted(ks, hi))
 	return out, nil
 }
+
+// ChainFitCost is the number of chain-size log-probabilities one likelihood evaluation of
+// these clusters computes: one per distinct size, plus the sum below the largest censored
+// cluster. A caller weighs it against the evaluations a bootstrap would need.
+func ChainFitCost(obs []ChainObservation) (int, error) {
+	t, err := tabulateChains(obs)
+	if err != nil {
+		return 0, err
+	}
+	return len(t.classes) + t.maxCens, nil
+}
+
+// ChainWaldIntervals are large-sample intervals for a chain-size fit: R and k are taken on
+// the log scale, where the likelihood is closer to quadratic, and the standard errors come
+// from the observed information, the inverse of the numerically differentiated Hessian of
+// the negative log-likelihood [Pawitan 2001, In All Likelihood, ch. 2 and 9; common
+// practice for positive parameters]. They stand in for the cluster bootstrap when
+// that would be too expensive (very large censored clusters).
+type ChainWaldIntervals struct {
+	Level float64 `json:"level"`
+	RLo   float64 `json:"R_lo"`
+	RHi   float64 `json:"R_hi"`
+	// KLo and KHi are nil in the Poisson limit, or when the information about k is not
+	// positive.
+	KLo *float64 `json:"k_lo"`
+	KHi *float64 `json:"k_hi"`
+}
+
+// WaldChainFit computes ChainWaldIntervals at the given level for fit, the maximum-likelihood
+// fit of obs.
+func WaldChainFit(obs []ChainObservation, fit *ChainFit, level float64) (*ChainWaldIntervals, error) {
+	if !(level > 0 && level < 1) {
+		return nil, fmt.Errorf("branching: interval level %v must be strictly between 0 and 1", level)
+	}
+	if fit == nil || !(fit.R > 0) {
+		return nil, fmt.Errorf("branching: no positive R to put an interval around")
+	}
+	t, err := tabulateChains(obs)
+	if err != nil {
+		return nil, err
+	}
+	z := distuvNormalQuantile(0.5 + level/2)
+	out := &ChainWaldIntervals{Level: level}
+	if fit.K == nil {
+		nll := func(lr float64) float64 { return -chainLogLik(&t, math.Exp(lr), math.Inf(1)) }
+		x, h := math.Log(fit.R), 1e-3
+		d2 := (nll(x+h) - 2*nll(x) + nll(x-h)) / (h * h)
+		if !(d2 > 0) {
+			return nil, fmt.Errorf("branching: the chain-size likelihood is not curved at its maximum")
+		}
+		se := 1 / math.Sqrt(d2)
+		out.RLo, out.RHi = math.Exp(x-z*se), math.Exp(x+z*se)
+		return out, nil
+	}
+	nll := func(lr, lk float64) float64 { return -chainLogLik(&t, math.Exp(lr), math.Exp(lk)) }
+	x, y, h := math.Log(fit.R), math.Log(*fit.K), 1e-3
+	f0 := nll(x, y)
+	hxx := (nll(x+h, y) - 2*f0 + nll(x-h, y)) / (h * h)
+	hyy := (nll(x, y+h) - 2*f0 + nll(x, y-h)) / (h * h)
+	hxy := (nll(x+h, y+h) - nll(x+h, y-h) - nll(x-h, y+h) + nll(x-h, y-h)) / (4 * h * h)
+	det := hxx*hyy - hxy*hxy
+	if !(hxx > 0) || !(det > 0) {
+		return nil, fmt.Errorf("branching: the chain-size likelihood is not curved at its maximum")
+	}
+	seR, seK := math.Sqrt(hyy/det), math.Sqrt(hxx/det)
+	out.RLo, out.RHi = math.Exp(x-z*seR), math.Exp(x+z*seR)
+	lo, hi := math.Exp(y-z*seK), math.Exp(y+z*seK)
+	out.KLo, out.KHi = &lo, &hi
+	return out, nil
+}
+
+// distuvNormalQuantile is the standard normal quantile function.
+func distuvNormalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }

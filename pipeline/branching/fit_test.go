@@ -195,3 +195,37 @@ func sdFinite(xs []float64, f func(float64) float64) float64 {
 	}
 	return math.Sqrt(ss / float64(len(v)-1))
 }
+
+// The Wald intervals of the chain-size fit agree with the cluster bootstrap's percentile
+// intervals on a sample large enough for both to be near their asymptotics (both estimate
+// the same sampling spread; Efron & Tibshirani 1993, ch. 13): each bound within 25% of the
+// interval's width. The threshold is our own, for a check of agreement, not of accuracy.
+func TestWaldChainFitAgreesWithBootstrap(t *testing.T) {
+	obs := simulateClusters(offspring.NegBin{R: 0.6, K: 0.5}, 800, 10000, 5)
+	fit, err := FitChainSizes(obs)
+	if err != nil || fit.K == nil {
+		t.Fatalf("fit %+v, %v", fit, err)
+	}
+	w, err := WaldChainFit(obs, fit, 0.95)
+	if err != nil {
+		t.Fatal(err)
+	}
+	bs, err := BootstrapChainFit(obs, 400, 0.95, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("R %.3f: Wald %.3f–%.3f, bootstrap %.3f–%.3f", fit.R, w.RLo, w.RHi, bs.RLo, bs.RHi)
+	width := bs.RHi - bs.RLo
+	if math.Abs(w.RLo-bs.RLo) > 0.25*width || math.Abs(w.RHi-bs.RHi) > 0.25*width || !(w.RLo < fit.R && fit.R < w.RHi) {
+		t.Errorf("R: Wald %.3f–%.3f, bootstrap %.3f–%.3f, estimate %.3f", w.RLo, w.RHi, bs.RLo, bs.RHi, fit.R)
+	}
+	if bs.KLo != nil && bs.KHi != nil {
+		kw := *bs.KHi - *bs.KLo
+		if math.Abs(*w.KLo-*bs.KLo) > 0.25*kw || math.Abs(*w.KHi-*bs.KHi) > 0.25*kw {
+			t.Errorf("k: Wald %.3f–%.3f, bootstrap %.3f–%.3f", *w.KLo, *w.KHi, *bs.KLo, *bs.KHi)
+		}
+	}
+	if c, err := ChainFitCost(obs); err != nil || c < 1 {
+		t.Errorf("cost %d, %v", c, err)
+	}
+}
