@@ -227,11 +227,14 @@ func evalMixture(ds []offspring.Distribution, a, N, M int) [][]complex128 {
 	}
 	r := radius(M, dampingDigits)
 	invB := complex(1/float64(len(ds)), 0)
+	// A PGF has real coefficients, so G(s̄) is the conjugate of G(s): the points of the upper
+	// half circle determine those of the lower half, which halves the work.
+	half := M/2 + 1
 	workers := runtime.GOMAXPROCS(0)
-	chunk := (M + workers - 1) / workers
+	chunk := (half + workers - 1) / workers
 	var wg sync.WaitGroup
-	for lo := 0; lo < M; lo += chunk {
-		hi := min(lo+chunk, M)
+	for lo := 0; lo < half; lo += chunk {
+		hi := min(lo+chunk, half)
 		wg.Add(1)
 		go func(lo, hi int) {
 			defer wg.Done()
@@ -248,6 +251,11 @@ func evalMixture(ds []offspring.Distribution, a, N, M int) [][]complex128 {
 		}(lo, hi)
 	}
 	wg.Wait()
+	for n := range vals {
+		for m := 1; m < M-m; m++ {
+			vals[n][M-m] = cmplx.Conj(vals[n][m])
+		}
+	}
 	return vals
 }
 

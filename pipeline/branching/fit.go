@@ -263,35 +263,58 @@ func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 		}
 		return v
 	}
-	// Borel fit (one parameter).
-	bestB := math.Inf(1)
-	var rB float64
 	borelStarts := []float64{r0, 0.5 * r0, math.Min(1.5, 2*r0)}
+	nbStarts := [][2]float64{{r0, 0.1}, {r0, 1}, {r0, 10}}
 	ftol := 1e-12
 	if starts != nil {
-		borelStarts, ftol = starts.borel, starts.ftol
+		borelStarts, nbStarts, ftol = starts.borel, starts.negbin, starts.ftol
 	}
+	// Every search from a fixed start is independent: a full fit runs them side by side
+	// (a bootstrap, already parallel over replicates, runs them in turn). Results are
+	// compared in start order, so the outcome does not depend on scheduling.
+	type search struct {
+		x0      []float64
+		step    float64
+		maxIter int
+		x       []float64
+		v       float64
+	}
+	var runs []*search
 	for _, r := range borelStarts {
-		x, v := nelderMead(nll, []float64{math.Log(r)}, 0.3, ftol, 1e-7, 2000)
-		if v < bestB {
-			bestB, rB = v, math.Exp(x[0])
+		runs = append(runs, &search{x0: []float64{math.Log(r)}, step: 0.3, maxIter: 2000})
+	}
+	for _, st := range nbStarts {
+		runs = append(runs, &search{x0: []float64{math.Log(st[0]), math.Log(st[1])}, step: 0.5, maxIter: 4000})
+	}
+	do := func(sr *search) { sr.x, sr.v = nelderMead(nll, sr.x0, sr.step, ftol, 1e-7, sr.maxIter) }
+	if starts == nil {
+		var wg sync.WaitGroup
+		for _, sr := range runs {
+			wg.Add(1)
+			go func() { defer wg.Done(); do(sr) }()
+		}
+		wg.Wait()
+	} else {
+		for _, sr := range runs {
+			do(sr)
+		}
+	}
+	bestB, bestN := math.Inf(1), math.Inf(1)
+	var rB, rN, kN float64
+	for _, sr := range runs {
+		switch {
+		case len(sr.x) == 1 && sr.v < bestB:
+			bestB, rB = sr.v, math.Exp(sr.x[0])
+		case len(sr.x) == 2 && sr.v < bestN:
+			bestN, rN, kN = sr.v, math.Exp(sr.x[0]), math.Exp(sr.x[1])
 		}
 	}
 	if math.IsInf(bestB, 1) {
 		return nil, fmt.Errorf("branching: the Borel chain-size fit failed")
 	}
-	// Negative binomial fit.
-	bestN := math.Inf(1)
-	var rN, kN float64
-	nbStarts := [][2]float64{{r0, 0.1}, {r0, 1}, {r0, 10}, {rB, poissonLimitK}}
-	if starts != nil {
-		nbStarts = append(append([][2]float64(nil), starts.negbin...), [2]float64{rB, poissonLimitK})
-	}
-	for _, st := range nbStarts {
-		x, v := nelderMead(nll, []float64{math.Log(st[0]), math.Log(st[1])}, 0.5, ftol, 1e-7, 4000)
-		if v < bestN {
-			bestN, rN, kN = v, math.Exp(x[0]), math.Exp(x[1])
-		}
+	// One more negative-binomial search from the Poisson limit at the Borel optimum.
+	if x, v := nelderMead(nll, []float64{math.Log(rB), math.Log(poissonLimitK)}, 0.5, ftol, 1e-7, 4000); v < bestN {
+		bestN, rN, kN = v, math.Exp(x[0]), math.Exp(x[1])
 	}
 	if kN >= poissonLimitK || math.IsInf(bestN, 1) || bestB-bestN < poissonLimitGain {
 		fit.R, fit.PoissonLimit, fit.LogLik = rB, true, -bestB
