@@ -1,0 +1,102 @@
+// Command profile runs the whole `caseweave report` pipeline on one line list with the
+// command's default settings (read, link, analyse, pseudonymise, render the default
+// template) under runtime/pprof, and prints the time of each stage. It is the profile
+// behind BENCHMARKS.md:
+//
+//	go run ./bench/profile -as-of 2027-07-01 -cpuprofile cpu.pprof big.csv
+//	go tool pprof -top -cum cpu.pprof
+//
+// The analysis is analysis.Run as the report command calls it; -skip-chain-bootstrap is
+// not offered on purpose, so the profile shows what a user waits for.
+package main
+
+import (
+	"flag"
+	"fmt"
+	"os"
+	"runtime"
+	"runtime/pprof"
+	"time"
+
+	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/forest"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/render"
+)
+
+func main() {
+	asOf := flag.String("as-of", "", "analysis date YYYY-MM-DD (required)")
+	cpu := flag.String("cpuprofile", "", "write a CPU profile to FILE")
+	mem := flag.String("memprofile", "", "write a heap profile (after the render) to FILE")
+	replicates := flag.Int("bootstrap", analysis.DefaultReplicates, "bootstrap replicates")
+	out := flag.String("o", "", "write the HTML report to FILE")
+	flag.Parse()
+	if flag.NArg() != 1 || *asOf == "" {
+		fmt.Fprintln(os.Stderr, "usage: profile -as-of YYYY-MM-DD [-cpuprofile FILE] [-memprofile FILE] LINELIST.csv")
+		os.Exit(2)
+	}
+	day, err := linelist.ParseISODay(*asOf)
+	if err != nil {
+		fail(err)
+	}
+	if *cpu != "" {
+		f, err := os.Create(*cpu)
+		if err != nil {
+			fail(err)
+		}
+		if err := pprof.StartCPUProfile(f); err != nil {
+			fail(err)
+		}
+		defer pprof.StopCPUProfile()
+	}
+	path := flag.Arg(0)
+	total := time.Now()
+	t := time.Now()
+	stage := func(name string) {
+		fmt.Printf("%-12s %8.3f s\n", name, time.Since(t).Seconds())
+		t = time.Now()
+	}
+	ll, err := linelist.ReadFile(path, linelist.Options{AsOf: day})
+	if err != nil {
+		fail(err)
+	}
+	stage("read")
+	f := forest.Build(ll.Cases)
+	stage("forest")
+	s, err := analysis.Run(path, ll, f, analysis.Options{AsOf: day, Replicates: *replicates, Seed: 1})
+	if err != nil {
+		fail(err)
+	}
+	stage("analysis")
+	shown := s.Pseudonymised("")
+	stage("pseudonymise")
+	html, err := render.Render(shown, render.Options{ShowIDs: true})
+	if err != nil {
+		fail(err)
+	}
+	stage("render")
+	fmt.Printf("%-12s %8.3f s  rows %d  clusters %d  html %d bytes\n", "total", time.Since(total).Seconds(), ll.Rows, len(f.Clusters), len(html))
+	if *out != "" {
+		if err := os.WriteFile(*out, html, 0o644); err != nil {
+			fail(err)
+		}
+	}
+	if *mem != "" {
+		runtime.GC()
+		mf, err := os.Create(*mem)
+		if err != nil {
+			fail(err)
+		}
+		if err := pprof.WriteHeapProfile(mf); err != nil {
+			fail(err)
+		}
+		mf.Close()
+	}
+	runtime.KeepAlive(ll)
+	runtime.KeepAlive(f)
+}
+
+func fail(err error) {
+	fmt.Fprintln(os.Stderr, "profile:", err)
+	os.Exit(1)
+}
