@@ -10,7 +10,6 @@ import (
 	"strings"
 	"testing"
 	"testing/fstest"
-	"unicode"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/caseweave/caseweave/pipeline/linelist"
@@ -218,25 +217,6 @@ func FuzzParseConfig(f *testing.F) {
 	})
 }
 
-// foldText is what escapeMarkdown's output should read as once rendered: the input with runs
-// of whitespace and control characters folded to one space, trimmed, invalid UTF-8 as U+FFFD.
-func foldText(s string) string {
-	var b strings.Builder
-	space := false
-	for _, r := range s {
-		if unicode.IsSpace(r) || unicode.IsControl(r) {
-			space = true
-			continue
-		}
-		if space && b.Len() > 0 {
-			b.WriteByte(' ')
-		}
-		space = false
-		b.WriteRune(r)
-	}
-	return b.String()
-}
-
 var (
 	anyTag     = regexp.MustCompile(`</?([a-zA-Z][a-zA-Z0-9]*)([^>]*)>`)
 	headingTag = regexp.MustCompile(`^<h1 id="[^"<>&]*">`)
@@ -259,7 +239,7 @@ func FuzzEscapeMarkdown(f *testing.F) {
 		if strings.ContainsAny(esc, "\n\r") {
 			t.Fatalf("escapeMarkdown(%q) = %q spans lines", s, esc)
 		}
-		want := foldText(s)
+		want := plainText(s)
 		render := func(src string) string {
 			st := &renderState{s: minimalSummary(), ordinals: map[string]string{}}
 			out, err := st.markdownToHTML([]byte(src))
