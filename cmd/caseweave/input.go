@@ -69,5 +69,5 @@ func (f *inputFlags) load(path string) (*loaded, error) {
 		}
 		return nil, withCode(exitInput, err)
 	}
-	return &loaded{path: path, asOf: asOf, config: cfg, list: ll, forest: forest.Build(ll.Cases)}, nil
+	return &loaded{path: path, asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
 }

@@ -2,6 +2,8 @@ package forest
 
 import (
 	"fmt"
+	"slices"
+	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
 )
@@ -82,6 +84,13 @@ func (f *Forest) LargestCluster() int {
 //   - onset_before_infector: a warning only; the link is kept, since pre-symptomatic
 //     transmission can produce it.
 func Build(cases []linelist.Case) *Forest {
+	return BuildIndexed(cases, nil)
+}
+
+// BuildIndexed is Build with the cases' indices already sorted by identifier
+// (linelist.LineList.ByID), so that infectors are found by binary search without a map of
+// every identifier. A byID that does not fit the cases is ignored and sorted afresh.
+func BuildIndexed(cases []linelist.Case, byID []int32) *Forest {
 	n := len(cases)
 	f := &Forest{
 		Infector:   make([]int32, n),
@@ -89,9 +98,19 @@ func Build(cases []linelist.Case) *Forest {
 		Offspring:  make([]int32, n),
 		Cluster:    make([]int32, n),
 	}
-	index := make(map[string]int32, n)
-	for i := range cases {
-		index[cases[i].ID] = int32(i)
+	if len(byID) != n {
+		byID = make([]int32, n)
+		for i := range byID {
+			byID[i] = int32(i)
+		}
+		slices.SortFunc(byID, func(a, b int32) int { return strings.Compare(cases[a].ID, cases[b].ID) })
+	}
+	lookup := func(id string) (int32, bool) {
+		k, ok := slices.BinarySearchFunc(byID, id, func(i int32, id string) int { return strings.Compare(cases[i].ID, id) })
+		if !ok {
+			return None, false
+		}
+		return byID[k], true
 	}
 	for i := range cases {
 		c := &cases[i]
@@ -104,7 +123,7 @@ func Build(cases []linelist.Case) *Forest {
 				fmt.Sprintf("case %q names itself as its infector; the link was dropped and the case treated as unlinked. Correct infector_id or leave it blank", c.ID))
 			continue
 		}
-		j, ok := index[c.InfectorID]
+		j, ok := lookup(c.InfectorID)
 		if !ok {
 			f.problem(c, linelist.CodeUnknownInfector, linelist.SeverityError,
 				fmt.Sprintf("infector_id %q matches no case_id in the file; the link was dropped and case %q treated as unlinked. Check the identifier, or add the infector's row", c.InfectorID, c.ID))

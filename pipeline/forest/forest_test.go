@@ -211,3 +211,16 @@ func BenchmarkBuild1M(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/n, "ns/case")
 }
+
+// BuildIndexed with the reader's sorted index gives the same forest as Build.
+func TestBuildIndexedMatchesBuild(t *testing.T) {
+	cs := mk("b", "a<-b", "d<-a", "c<-zz", "e<-e", "f<-g", "g<-f", "h<-d")
+	byID := []int32{1, 0, 3, 2, 4, 5, 6, 7} // a b c d e f g h
+	a, b := Build(cs), BuildIndexed(cs, byID)
+	if !reflect.DeepEqual(a, b) {
+		t.Fatalf("Build %+v\nBuildIndexed %+v", a, b)
+	}
+	if c := BuildIndexed(cs, []int32{0}); !reflect.DeepEqual(a, c) {
+		t.Fatal("an index that does not fit should be ignored")
+	}
+}

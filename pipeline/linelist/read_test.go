@@ -587,3 +587,18 @@ func genLineList(n int) string {
 	}
 	return b.String()
 }
+
+// ByID lists every kept case once, in identifier order, also after duplicates are dropped.
+func TestByIDSortedAfterDuplicates(t *testing.T) {
+	ll, err := Read(strings.NewReader("case_id,onset_date\nq,2026-01-01\nb,2026-01-01\nq,2026-01-02\na,2026-01-01\nb,2026-01-03\n"), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ids []string
+	for _, i := range ll.ByID {
+		ids = append(ids, ll.Cases[i].ID)
+	}
+	if !reflect.DeepEqual(ids, []string{"a", "b", "q"}) || len(ll.Cases) != 3 || ll.Cases[ll.ByID[2]].Onset.String() != "2026-01-01" {
+		t.Fatalf("ByID gives %v over %d cases", ids, len(ll.Cases))
+	}
+}
