@@ -538,7 +538,14 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))
 				multinomialResample(r, tab, counts)
 				rep := intervalTable{values: tab.values, counts: counts, n: tab.n}
-				th := minimise(fam, rep, start)
+				// A replicate's optimum lies near the full-data one, where Newton steps with
+				// backtracking converge in a few iterations; the full Nelder–Mead search is
+				// the fallback when Newton cannot move (curvature not positive there).
+				th := newtonPolish(fam, rep, start)
+				if th == start {
+					th = minimise(fam, rep, start)
+				}
+				th, _ = clampBox(fam, th)
 				si := fam.build(th)
 				mean[i], p95[i] = si.Mean(), si.Quantile(0.95)
 				ok[i] = finite(mean[i]) && finite(p95[i])
