@@ -35,3 +35,26 @@ func TestBrent(t *testing.T) {
 		t.Error("NaN: want an error")
 	}
 }
+
+// NewtonMin finds the minimum of quadratics exactly (closed form) and of a smooth
+// non-quadratic function from a nearby start; it reports failure where the curvature is
+// negative.
+func TestNewtonMin(t *testing.T) {
+	q := func(x []float64) float64 { return (x[0]-1)*(x[0]-1) + 2*(x[1]+3)*(x[1]+3) + (x[0]-1)*(x[1]+3) }
+	x, _, ok := NewtonMin(q, []float64{0, 0}, 1e-4, 20)
+	if !ok || math.Abs(x[0]-1) > 1e-6 || math.Abs(x[1]+3) > 1e-6 {
+		t.Errorf("quadratic minimum at %v, want (1, −3)", x)
+	}
+	// f(x) = e^x − 2x has its minimum at ln 2 (closed form).
+	x, _, _ = NewtonMin(func(x []float64) float64 { return math.Exp(x[0]) - 2*x[0] }, []float64{0.3}, 1e-4, 30)
+	if math.Abs(x[0]-math.Ln2) > 1e-7 {
+		t.Errorf("minimum at %v, want ln 2", x[0])
+	}
+	if _, _, ok := NewtonMin(func(x []float64) float64 { return -x[0] * x[0] }, []float64{0.5}, 1e-4, 10); ok {
+		t.Error("ok on a concave function")
+	}
+	// Started at the minimum it stays there and says so.
+	if x, _, ok := NewtonMin(q, []float64{1, -3}, 1e-4, 20); !ok || math.Abs(x[0]-1) > 1e-9 {
+		t.Errorf("from the minimum: %v, %v", x, ok)
+	}
+}

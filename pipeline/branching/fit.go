@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -29,6 +30,8 @@ type ChainFit struct {
 	LogLik       float64 `json:"log_likelihood"`
 	Clusters     int     `json:"clusters"`
 	Censored     int     `json:"censored"`
+	// borelR is the Borel (Poisson-offspring) optimum, kept as a start for refits.
+	borelR float64
 }
 
 // Thresholds of the Poisson-limit decision (common practice: k beyond 1000 is
@@ -318,8 +321,10 @@ func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 	}
 	if kN >= poissonLimitK || math.IsInf(bestN, 1) || bestB-bestN < poissonLimitGain {
 		fit.R, fit.PoissonLimit, fit.LogLik = rB, true, -bestB
+		fit.borelR = rB
 	} else {
 		fit.R, fit.K, fit.LogLik = rN, &kN, -bestN
+		fit.borelR = rB
 	}
 	if fit.R > maxFittedR {
 		return nil, fmt.Errorf("branching: the fitted R runs above %d: the clusters carry no finite estimate (too many censored?)", maxFittedR)
@@ -379,7 +384,11 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 	// costs a few Nelder–Mead runs instead of seven; a replicate whose search fails there
 	// falls back to the full fan of starts.
 	var starts *fitStarts
-	if f0, err := fitTable(&full, nil); err == nil && f0.R > 0 {
+	f0, err := fitTable(&full, nil)
+	if err != nil {
+		f0 = nil
+	}
+	if f0 != nil && f0.R > 0 {
 		k0 := poissonLimitK
 		if f0.K != nil {
 			k0 = *f0.K
@@ -408,9 +417,12 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 				if err != nil {
 					continue
 				}
-				f, err := fitTable(&t, starts)
-				if err != nil && starts != nil {
-					f, err = fitTable(&t, nil)
+				f, ok := newtonRefit(&t, f0)
+				if !ok {
+					f, err = fitTable(&t, starts)
+					if err != nil && starts != nil {
+						f, err = fitTable(&t, nil)
+					}
 				}
 				if err != nil {
 					continue
@@ -522,3 +534,42 @@ func WaldChainFit(obs []ChainObservation, fit *ChainFit, level float64) (*ChainW
 
 // distuvNormalQuantile is the standard normal quantile function.
 func distuvNormalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
+
+// newtonRefit refits a bootstrap replicate by Newton steps from the full-data fit f0, whose
+// optimum the replicate's lies near (numeric.NewtonMin), for both the Borel and the negative
+// binomial model, and makes the same Poisson-limit decision as fitTable. It reports false —
+// the caller then runs the full search — when f0 is missing or in the Poisson limit (k's
+// likelihood is flat there), or when either Newton search meets a Hessian that is not positive definite.
+func newtonRefit(t *chainTable, f0 *ChainFit) (*ChainFit, bool) {
+	if f0 == nil || f0.K == nil || !(f0.R > 0) || !(f0.borelR > 0) || t.allOnes || t.allCensor {
+		return nil, false
+	}
+	guard := func(R, k float64) float64 {
+		if R > 1e3 || k < 1e-8 || (!math.IsInf(k, 1) && k > 100*poissonLimitK) {
+			return 1e300
+		}
+		v := -chainLogLik(t, R, k)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 1e300
+		}
+		return v
+	}
+	xb, vb, okB := numeric.NewtonMin(func(x []float64) float64 { return guard(math.Exp(x[0]), math.Inf(1)) },
+		[]float64{math.Log(f0.borelR)}, 1e-4, 30)
+	xn, vn, okN := numeric.NewtonMin(func(x []float64) float64 { return guard(math.Exp(x[0]), math.Exp(x[1])) },
+		[]float64{math.Log(f0.R), math.Log(*f0.K)}, 1e-4, 30)
+	if !okB || !okN || vb >= 1e300 || vn >= 1e300 {
+		return nil, false
+	}
+	fit := &ChainFit{Clusters: t.n, Censored: t.nCens, borelR: math.Exp(xb[0])}
+	kN := math.Exp(xn[1])
+	if kN >= poissonLimitK || vb-vn < poissonLimitGain {
+		fit.R, fit.PoissonLimit, fit.LogLik = math.Exp(xb[0]), true, -vb
+	} else {
+		fit.R, fit.K, fit.LogLik = math.Exp(xn[0]), &kN, -vn
+	}
+	if fit.R > maxFittedR {
+		return nil, false
+	}
+	return fit, true
+}

@@ -229,3 +229,30 @@ func TestWaldChainFitAgreesWithBootstrap(t *testing.T) {
 		t.Errorf("cost %d, %v", c, err)
 	}
 }
+
+// A bootstrap replicate refitted by Newton steps from the full-data fit reaches the optimum
+// the full Nelder–Mead search finds (the two are the same maximum-likelihood estimate).
+func TestNewtonRefitMatchesFullSearch(t *testing.T) {
+	obs := simulateClusters(offspring.NegBin{R: 0.6, K: 0.5}, 800, 10000, 5)
+	full, _ := tabulateChains(obs)
+	f0, err := fitTable(&full, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for b := 0; b < 5; b++ {
+		rng := replicateRand(1, b)
+		sample := make([]ChainObservation, len(obs))
+		for i := range sample {
+			sample[i] = obs[rng.IntN(len(obs))]
+		}
+		tb, _ := tabulateChains(sample)
+		f, ok := newtonRefit(&tb, f0)
+		g, err := fitTable(&tb, nil)
+		if !ok || err != nil {
+			t.Fatalf("replicate %d: refit ok %v, full search %v", b, ok, err)
+		}
+		if !near(f.R, g.R, 1e-5) || (f.K == nil) != (g.K == nil) || (f.K != nil && !near(*f.K, *g.K, 1e-4)) || math.Abs(f.LogLik-g.LogLik) > 1e-7 {
+			t.Errorf("replicate %d: Newton R %v k %v ll %v; search R %v k %v ll %v", b, f.R, f.K, f.LogLik, g.R, g.K, g.LogLik)
+		}
+	}
+}
