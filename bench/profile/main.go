@@ -61,7 +61,7 @@ func main() {
 		fail(err)
 	}
 	stage("read")
-	f := forest.Build(ll.Cases)
+	f := forest.BuildIndexed(ll.Cases, ll.ByID)
 	stage("forest")
 	s, err := analysis.Run(path, ll, f, analysis.Options{AsOf: day, Replicates: *replicates, Seed: 1})
 	if err != nil {
