@@ -60,11 +60,20 @@ type session struct {
 	check  PageCheck
 }
 
+// BrowserAvailable returns ErrNoBrowser when the chromium that InspectInBrowser and
+// PrintPDF drive is not installed, and nil when it is.
+func BrowserAvailable() error {
+	if _, err := exec.LookPath(ChromiumPath); err != nil {
+		return ErrNoBrowser
+	}
+	return nil
+}
+
 // openPage starts a fresh headless chromium (its own profile directory, no network), loads
 // html into a blank page with every request blocked, and waits for the charts to initialise.
 func openPage(ctx context.Context, html []byte, width int64) (*session, error) {
-	if _, err := exec.LookPath(ChromiumPath); err != nil {
-		return nil, ErrNoBrowser
+	if err := BrowserAvailable(); err != nil {
+		return nil, err
 	}
 	profile, err := os.MkdirTemp("", "caseweave-chromium-")
 	if err != nil {

@@ -15,8 +15,8 @@ func needBrowser(t *testing.T) {
 	if os.Getenv("CASEWEAVE_SKIP_BROWSER") == "1" {
 		t.Skip("CASEWEAVE_SKIP_BROWSER=1")
 	}
-	if _, err := exec.LookPath(ChromiumPath); err != nil {
-		t.Fatalf("browser tests need chromium at %s: install it with `apt-get install -y chromium` (or set CASEWEAVE_SKIP_BROWSER=1)", ChromiumPath)
+	if err := BrowserAvailable(); err != nil {
+		t.Fatalf("browser tests: %v (or set CASEWEAVE_SKIP_BROWSER=1)", err)
 	}
 }
 

@@ -20,8 +20,8 @@ func needBrowser(t *testing.T) {
 	if os.Getenv("CASEWEAVE_SKIP_BROWSER") == "1" {
 		t.Skip("CASEWEAVE_SKIP_BROWSER=1")
 	}
-	if _, err := os.Stat(render.ChromiumPath); err != nil {
-		t.Fatalf("browser tests need chromium at %s: run `bash .ci/test`, which installs it, or `apt-get install -y chromium`", render.ChromiumPath)
+	if err := render.BrowserAvailable(); err != nil {
+		t.Fatalf("browser tests: %v (`bash .ci/test` installs it)", err)
 	}
 }
 

@@ -48,35 +48,37 @@ type ChainSizeDistribution struct {
 //
 // computed with Lgamma and log1p. It is −Inf for y < 1, and for y > 1 when R = 0.
 func ChainSizeLogPMFNegBin(R, k float64, y int) float64 {
-	if y < 1 {
-		return math.Inf(-1)
+	if v, ok := trivialChainSize(R, y); ok {
+		return v
 	}
 	fy := float64(y)
-	if R == 0 {
-		if y == 1 {
-			return 0
-		}
-		return math.Inf(-1)
-	}
 	a, _ := math.Lgamma(k*fy + fy - 1)
 	b, _ := math.Lgamma(k * fy)
 	c, _ := math.Lgamma(fy + 1)
 	return a - b - c + (fy-1)*math.Log(R/k) - (k*fy+fy-1)*math.Log1p(R/k)
 }
 
+// trivialChainSize answers log P(Y = y) where no formula is needed: sizes below 1 are
+// impossible, and with R = 0 every chain is its root alone.
+func trivialChainSize(R float64, y int) (float64, bool) {
+	switch {
+	case y < 1:
+		return math.Inf(-1), true
+	case R == 0 && y == 1:
+		return 0, true
+	case R == 0:
+		return math.Inf(-1), true
+	}
+	return 0, false
+}
+
 // ChainSizeLogPMFBorel is log P(Y = y) for Poisson(R) offspring, the Borel distribution
 // [Blumberg & Lloyd-Smith 2013; Borel 1942]: P(Y = y) = e^{−Ry}(Ry)^{y−1}/y!.
 func ChainSizeLogPMFBorel(R float64, y int) float64 {
-	if y < 1 {
-		return math.Inf(-1)
+	if v, ok := trivialChainSize(R, y); ok {
+		return v
 	}
 	fy := float64(y)
-	if R == 0 {
-		if y == 1 {
-			return 0
-		}
-		return math.Inf(-1)
-	}
 	c, _ := math.Lgamma(fy + 1)
 	return -R*fy + (fy-1)*math.Log(R*fy) - c
 }

@@ -94,6 +94,15 @@ func checkTable(t FreqTable) (n, sum, sumSq float64, err error) {
 	return float64(ni), sum, sumSq, nil
 }
 
+// tableLogLik is Σ_x c_x log p_x, the log-likelihood of a frequency table under d.
+func tableLogLik(t FreqTable, d Distribution) float64 {
+	ll := 0.0
+	for i, v := range t.Values {
+		ll += float64(t.Counts[i]) * d.LogPMF(v)
+	}
+	return ll
+}
+
 // FitPoisson fits Poisson(R) by maximum likelihood: R̂ = x̄, log L = Σ c_x (x log R̂ − R̂ − log x!),
 // SE(R̂) = √(R̂/n) (observed information n/R̂). With R̂ = 0 (every count 0) log L = 0 and SE = 0.
 func FitPoisson(t FreqTable) (ModelFit, error) {
@@ -102,10 +111,7 @@ func FitPoisson(t FreqTable) (ModelFit, error) {
 		return ModelFit{}, err
 	}
 	R := sum / n
-	ll := 0.0
-	for i, v := range t.Values {
-		ll += float64(t.Counts[i]) * Poisson{R: R}.LogPMF(v)
-	}
+	ll := tableLogLik(t, Poisson{R: R})
 	return ModelFit{Name: NamePoisson, R: R, LogLik: ll, AIC: 2 - 2*ll,
 		SE: StandardErrors{R: math.Sqrt(R / n)}}, nil
 }
@@ -118,10 +124,7 @@ func FitGeometric(t FreqTable) (ModelFit, error) {
 		return ModelFit{}, err
 	}
 	R := sum / n
-	ll := 0.0
-	for i, v := range t.Values {
-		ll += float64(t.Counts[i]) * Geometric{R: R}.LogPMF(v)
-	}
+	ll := tableLogLik(t, Geometric{R: R})
 	return ModelFit{Name: NameGeometric, R: R, LogLik: ll, AIC: 2 - 2*ll,
 		SE: StandardErrors{R: math.Sqrt(R * (1 + R) / n)}}, nil
 }
