@@ -110,3 +110,19 @@ func BenchmarkFitChainSizes(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkProjectNational is the projection of a national report: 200 replicates around
+// R = 0.99, k = 0.5 from 19,604 active cases, four generations (issue 8's 1M-case file).
+func BenchmarkProjectNational(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	reps := make([]offspring.Distribution, 200)
+	for i := range reps {
+		reps[i] = offspring.NegBin{R: 0.98 + 0.02*rng.Float64(), K: 0.49 + 0.02*rng.Float64()}
+	}
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Project(reps, 19604, 4); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -5,7 +5,10 @@ import (
 	"math"
 	"math/cmplx"
 	"runtime"
+	"slices"
+	"sort"
 	"sync"
+	"sync/atomic"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
 	"gonum.org/v1/gonum/dsp/fourier"
@@ -219,36 +222,69 @@ func radius(M int, digits float64) float64 {
 
 // evalMixture returns vals[n][m] = (1/B)·Σ_b G_{b,n+1}(s_m)^a. The points are split among
 // goroutines; every sum over b runs in the same order whatever the number of workers, so
-// the result does not depend on it.
+// the result does not depend on their number.
 func evalMixture(ds []offspring.Distribution, a, N, M int) [][]complex128 {
+	return evalMixtureSkip(ds, a, N, M, true)
+}
+
+// evalMixtureSkip is evalMixture; with skip, it stops iterating a replicate at a point once
+// every remaining term G_{b,n}(s_m)^a is certain to underflow to 0 (see underflowRadii), which
+// changes no value and, for many active cases, spares most of the circle.
+func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]complex128 {
 	vals := make([][]complex128, N)
 	for n := range vals {
 		vals[n] = make([]complex128, M)
 	}
 	r := radius(M, dampingDigits)
 	invB := complex(1/float64(len(ds)), 0)
+	rho2 := make([][]float64, len(ds))
+	for b, d := range ds {
+		if skip {
+			rho2[b] = underflowRadii(d, a, N)
+		} else {
+			rho2[b] = slices.Repeat([]float64{-1}, N) // never skip
+		}
+	}
 	// A PGF has real coefficients, so G(s̄) is the conjugate of G(s): the points of the upper
 	// half circle determine those of the lower half, which halves the work.
 	half := M/2 + 1
-	workers := runtime.GOMAXPROCS(0)
-	chunk := (half + workers - 1) / workers
+	last := make([]int, len(ds))
+	for b, d := range ds {
+		last[b] = lastLivePoint(d, rho2[b][0], r, M, half)
+	}
+	// The points near s = r carry most of the work, so they are handed out in small blocks
+	// to whichever worker is free; each value is still summed by one goroutine in a fixed
+	// order over b.
+	const block = 32
+	var next atomic.Int64
 	var wg sync.WaitGroup
-	for lo := 0; lo < half; lo += chunk {
-		hi := min(lo+chunk, half)
+	for range runtime.GOMAXPROCS(0) {
 		wg.Add(1)
-		go func(lo, hi int) {
+		go func() {
 			defer wg.Done()
-			for m := lo; m < hi; m++ {
-				s := cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))
-				for _, d := range ds {
-					w := s
-					for n := 0; n < N; n++ {
-						w = d.PGFComplex(w)
-						vals[n][m] += cmplxIntPow(w, a) * invB
+			for {
+				lo := int(next.Add(block)) - block
+				if lo >= half {
+					return
+				}
+				for m := lo; m < min(lo+block, half); m++ {
+					s := cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))
+					for b, d := range ds {
+						if m > last[b] {
+							continue
+						}
+						w := s
+						for n := 0; n < N; n++ {
+							w = d.PGFComplex(w)
+							if re, im := real(w), imag(w); re*re+im*im <= rho2[b][n] {
+								break
+							}
+							vals[n][m] += cmplxIntPow(w, a) * invB
+						}
 					}
 				}
 			}
-		}(lo, hi)
+		}()
 	}
 	wg.Wait()
 	for n := range vals {
@@ -257,6 +293,88 @@ func evalMixture(ds []offspring.Distribution, a, N, M int) [][]complex128 {
 		}
 	}
 	return vals
+}
+
+// lastLivePoint returns the largest m < half at which |G(s_m)|², s_m = r·e^{2πim/M}, may
+// exceed rho2 (the first-step radius of underflowRadii); from there on every term of the
+// replicate is 0. For the Poisson, geometric and negative binomial families |G(r·e^{iθ})|
+// decreases in θ on [0, π] (|1 + c(1 − s)| grows as Re s falls; for the Poisson,
+// |G| = e^{R(Re s − 1)}), so the first point past the bound is found by bisection. Any
+// other distribution gets half − 1: every point is evaluated.
+func lastLivePoint(d offspring.Distribution, rho2, r float64, M, half int) int {
+	var logAbs2 func(s complex128) float64 // log|G(s)|²
+	switch d := d.(type) {
+	case offspring.Poisson:
+		logAbs2 = func(s complex128) float64 { return 2 * d.R * (real(s) - 1) }
+	case offspring.Geometric:
+		logAbs2 = func(s complex128) float64 { return -logAbs2Linear(d.R, s) }
+	case offspring.NegBin:
+		logAbs2 = func(s complex128) float64 { return -d.K * logAbs2Linear(d.R/d.K, s) }
+	}
+	if logAbs2 == nil || rho2 <= 0 {
+		return half - 1
+	}
+	cut := math.Log(rho2)
+	dead := func(m int) bool { return logAbs2(cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))) <= cut }
+	if !dead(half - 1) {
+		return half - 1
+	}
+	// The first dead point: dead(m) is false below it and true from it on.
+	first := sort.Search(half, dead)
+	return first - 1
+}
+
+// logAbs2Linear is log|1 + c(1 − s)|².
+func logAbs2Linear(c float64, s complex128) float64 {
+	x, y := 1+c*(1-real(s)), -c*imag(s)
+	return math.Log(x*x + y*y)
+}
+
+// underflowLog is a log-modulus below which e^x is 0 in float64 with a wide margin (the
+// smallest subnormal is e^−744.4).
+const underflowLog = -760
+
+// underflowRadii returns ρ_n² (n = 0..N−1) such that |G_{n+1}(s)|² ≤ ρ_n² implies that
+// G_{n+1+j}(s)^a underflows to 0 for every j = 0..N−1−n. It rests on |G(z)| ≤ G(|z|) for a
+// PGF (its coefficients are non-negative), so |G_{n+1+j}(s)| ≤ G_j(|G_{n+1}(s)|) with G_j the
+// j-fold composition on [0, 1], which is increasing; ρ_n is the largest ρ with
+// a·log G_j(ρ) < underflowLog for all those j, found by bisection. ρ_n = 0 when no ρ
+// qualifies (or a is 0).
+func underflowRadii(d offspring.Distribution, a, N int) []float64 {
+	out := make([]float64, N)
+	if a == 0 {
+		return out
+	}
+	fa := float64(a)
+	ok := func(rho float64, steps int) bool {
+		x := rho
+		for j := 0; j <= steps; j++ {
+			if j > 0 {
+				x = d.PGF(x)
+			}
+			if !(fa*math.Log(x) < underflowLog) {
+				return false
+			}
+		}
+		return true
+	}
+	for n := 0; n < N; n++ {
+		steps := N - 1 - n
+		lo, hi := 0.0, 1.0
+		if !ok(0, steps) {
+			continue
+		}
+		for i := 0; i < 64 && hi-lo > 1e-15; i++ {
+			mid := (lo + hi) / 2
+			if ok(mid, steps) {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		out[n] = lo * lo
+	}
+	return out
 }
 
 // decodeCircle turns PGF values at s_m = r·e^{2πim/M} (r = radius(M, digits)) into p_j,

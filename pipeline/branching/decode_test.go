@@ -273,3 +273,55 @@ func TestGenerationSizesArguments(t *testing.T) {
 		}
 	}
 }
+
+// TestEvalMixtureSkipChangesNothing checks that stopping a replicate's iteration once every
+// remaining term must underflow leaves every value bit for bit as the full computation
+// gives it, for sub- and supercritical, light- and heavy-tailed offspring, few and many
+// active cases (the bound |G(z)| ≤ G(|z|) is the triangle inequality; common practice).
+func TestEvalMixtureSkipChangesNothing(t *testing.T) {
+	emp := mustEmpirical(t, []float64{0.5, 0.2, 0.1, 0, 0.2}, false)
+	mixes := [][]offspring.Distribution{
+		{offspring.NegBin{R: 0.99, K: 0.5}, offspring.NegBin{R: 0.95, K: 0.45}, offspring.NegBin{R: 1.02, K: 0.55}},
+		{offspring.NegBin{R: 2.5, K: 0.1}},
+		{offspring.Poisson{R: 0.7}, offspring.Geometric{R: 1.3}},
+		{emp},
+	}
+	for i, ds := range mixes {
+		for _, a := range []int{1, 7, 900, 5000, 20000} {
+			const N, M = 4, 1 << 12
+			got := evalMixtureSkip(ds, a, N, M, true)
+			want := evalMixtureSkip(ds, a, N, M, false)
+			for n := range want {
+				for m := range want[n] {
+					if got[n][m] != want[n][m] {
+						t.Fatalf("mix %d, a=%d: vals[%d][%d] = %v with the skip, %v without", i, a, n, m, got[n][m], want[n][m])
+					}
+				}
+			}
+		}
+	}
+}
+
+func TestUnderflowRadiiBound(t *testing.T) {
+	// Each radius must satisfy its own definition: at ρ_n, every remaining term underflows.
+	d := offspring.NegBin{R: 0.99, K: 0.5}
+	const a, N = 20000, 4
+	rho2 := underflowRadii(d, a, N)
+	for n, r2 := range rho2 {
+		if r2 <= 0 || r2 >= 1 {
+			t.Fatalf("ρ_%d² = %v, want a radius in (0, 1) for a = %d", n, r2, a)
+		}
+		x := math.Sqrt(r2)
+		for j := 0; j < N-n; j++ {
+			if j > 0 {
+				x = d.PGF(x)
+			}
+			if v := math.Pow(x, a); v != 0 {
+				t.Fatalf("ρ_%d: G_%d(ρ)^a = %v, want an underflow to 0", n, j, v)
+			}
+		}
+	}
+	if r := underflowRadii(d, 1, N); r[0] != 0 {
+		t.Fatalf("a = 1: ρ_0² = %v, want 0 (one case never underflows)", r[0])
+	}
+}
