@@ -72,11 +72,13 @@ const (
 	// chainReplicates caps the cluster bootstrap of the chain-size fit, whose every
 	// replicate is a two-parameter numerical maximisation.
 	chainReplicates = 500
-	// chainEvaluationsPerFit is about how many likelihood evaluations one Nelder–Mead refit
-	// of the chain-size model takes, and chainBootstrapBudget the chain-size log-probabilities
-	// a bootstrap may compute in all (about a minute of one core): beyond it, Wald intervals.
-	chainEvaluationsPerFit = 450
-	chainBootstrapBudget   = 1_000_000_000
+	// chainEvaluationsPerFit is about how many likelihood evaluations one bootstrap refit of
+	// the chain-size model takes (Newton steps from the full-data fit: 61 measured on issue
+	// 8's 1M-case file), and chainBootstrapBudget the chain-size log-probabilities a
+	// bootstrap may compute in all, about 5 s of one core at the ~110 ns per term measured
+	// there (BENCHMARKS.md): beyond it, Wald intervals.
+	chainEvaluationsPerFit = 60
+	chainBootstrapBudget   = 45_000_000
 	treesShown             = 6
 	nodesPerTree           = 120
 	eooHorizon             = 60
@@ -514,9 +516,10 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 		return nil
 	}
 	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true}
-	// The cluster bootstrap refits the model hundreds of times; with very large censored
-	// clusters each likelihood evaluation sums tens of thousands of terms, and then
-	// large-sample (Wald) intervals from the observed information stand in for it.
+	// The cluster bootstrap refits the model hundreds of times; with thousands of distinct
+	// cluster sizes and many large censored clusters (national line lists) that would keep
+	// the analyst waiting, and large-sample (Wald) intervals from the observed information,
+	// which such sample sizes justify, stand in for it.
 	B := min(a.o.Replicates, chainReplicates)
 	cost, _ := branching.ChainFitCost(obs)
 	if int64(cost)*chainEvaluationsPerFit*int64(B) > chainBootstrapBudget {

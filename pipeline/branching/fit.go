@@ -8,8 +8,6 @@ import (
 	"runtime"
 	"sort"
 	"sync"
-
-	"github.com/caseweave/caseweave/pipeline/offspring"
 )
 
 // ChainObservation is one observed transmission chain (cluster).
@@ -51,8 +49,11 @@ type chainClass struct {
 
 type chainTable struct {
 	// lgy1[y] = log Γ(y + 1), cached for the sizes the likelihood visits.
-	lgy1      []float64
-	classes   []chainClass
+	lgy1    []float64
+	classes []chainClass
+	// sumFrom is where sums of P(Y = j) switch from term by term to smoothSum
+	// (chainSumFrom; the tests raise it to compare the two).
+	sumFrom   int
 	maxCens   int
 	n, nCens  int
 	allOnes   bool
@@ -99,6 +100,7 @@ func tabulateChains(obs []ChainObservation) (chainTable, error) {
 		return !a.censored && b.censored
 	})
 	t.n = len(obs)
+	t.sumFrom = chainSumFrom
 	t.meanSize = float64(total) / float64(t.n)
 	top := t.classes[len(t.classes)-1].size
 	t.lgy1 = make([]float64, top+2)
@@ -119,10 +121,13 @@ func (t *chainTable) lgammaY1(y int) float64 {
 
 // chainLogLik is the log-likelihood of the table under NB(R, k) chain sizes, or Borel when
 // k is +Inf: Σ log P(Y = y) over complete clusters plus Σ log P(Y ≥ y) over censored ones,
-// P(Y ≥ y) = 1 − Σ_{j<y} P(Y = j) [Blumberg & Lloyd-Smith 2013]. When that difference
-// cancels badly (R < 1 and a tail below 1e−8) the tail is summed directly instead.
+// P(Y ≥ y) = 1 − Σ_{j<y} P(Y = j) [Blumberg & Lloyd-Smith 2013]. The sum below y runs term
+// by term up to t.sumFrom and by smoothSum beyond, so a censored cluster of tens of
+// thousands of cases costs about as much as one of a few hundred. Where the difference
+// would cancel (R < 1 and a tail below 1e−4) the tails are summed from above instead.
 func chainLogLik(t *chainTable, R, k float64) float64 {
 	logp := func(y int) float64 { return ChainSizeLogPMFBorel(R, y) }
+	logpx := continuousChainLogPMF(R, k)
 	if !math.IsInf(k, 1) && R > 0 {
 		// ChainSizeLogPMFNegBin with its (R, k)-only terms hoisted out of the loop: this
 		// likelihood runs inside every Nelder–Mead step of every bootstrap replicate.
@@ -136,82 +141,100 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 	} else if !math.IsInf(k, 1) {
 		logp = func(y int) float64 { return ChainSizeLogPMFNegBin(R, k, y) }
 	}
-	// q is the extinction probability, the total mass of finite chains (DOMAIN.md §4),
-	// computed only when a large censored cluster needs it.
-	q := math.NaN()
-	extinction := func() float64 {
-		if math.IsNaN(q) {
-			var d offspring.Distribution = offspring.Poisson{R: R}
-			if !math.IsInf(k, 1) {
-				d = offspring.NegBin{R: R, K: k}
-			}
-			var err error
-			if q, err = ExtinctionProbability(d); err != nil {
-				q = 1
-			}
-		}
-		return q
-	}
 	ll := 0.0
+	// The censored classes, in increasing size y_i, with cum_i = Σ_{j<y_i} P(Y = j) and the
+	// increments seg_i = cum_i − cum_{i−1}, each summed on its own.
+	type censoredClass struct {
+		size, count int
+		cum, seg    float64
+	}
+	var cens []censoredClass
 	var cum neumaier
 	next := 1 // cum holds Σ_{j<next} P(Y = j)
-	// Attempts at the upper tail may cost, in all, no more terms than the sum from below
-	// does; near R = 1 the tail never converges in time, and without a budget every large
-	// censored cluster would first pay for a failed attempt.
-	budget := t.maxCens
 	for _, c := range t.classes {
 		if !c.censored {
 			ll += float64(c.count) * logp(c.size)
 			continue
 		}
-		if c.size > largeCensoredCluster {
-			// P(Y ≥ y) = (1 − q) + Σ_{j≥y} P(Y = j): for a large y the sum from y up usually
-			// converges in far fewer terms than the y − 1 terms below it.
-			if tail, ok := upperTail(logp, c.size, 1-extinction(), &budget); ok {
-				ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
-				continue
+		var seg neumaier
+		direct := c.size
+		if logpx != nil {
+			direct = min(c.size, t.sumFrom)
+		}
+		for ; next < direct; next++ {
+			seg.add(math.Exp(logp(next)))
+		}
+		if next < c.size {
+			seg.add(smoothSum(logpx, next, c.size))
+			next = c.size
+		}
+		cum.add(seg.sum())
+		cens = append(cens, censoredClass{size: c.size, count: c.count, cum: cum.sum(), seg: seg.sum()})
+	}
+	// P(Y ≥ y_i) = 1 − cum_i loses digits as it shrinks. For R < 1 (every chain finite) it is
+	// also T_i = Σ_{j≥y_i} P(Y = j) = T_m + Σ_{l>i} seg_l, summed from the top without
+	// cancellation: used once 1 − cum_i is below smallTail. T_m is summed directly.
+	const smallTail = 1e-4
+	top := math.NaN()
+	var above neumaier // Σ_{l>i} seg_l
+	for i := len(cens) - 1; i >= 0; i-- {
+		c := cens[i]
+		tail := 1 - c.cum
+		if tail < smallTail && R < 1 {
+			if math.IsNaN(top) {
+				top = directTail(logp, logpx, cens[len(cens)-1].size, t.sumFrom)
 			}
+			tail = top + above.sum()
 		}
-		for ; next < c.size; next++ {
-			cum.add(math.Exp(logp(next)))
-		}
-		tail := 1 - cum.sum()
-		if tail < 1e-8 && R < 1 {
-			var s neumaier
-			for j := c.size; j < c.size+1_000_000; j++ {
-				p := math.Exp(logp(j))
-				s.add(p)
-				if p < 1e-17*s.sum() {
-					break
-				}
-			}
-			tail = s.sum()
-		}
+		above.add(c.seg)
 		ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
 	}
 	return ll
 }
 
-// largeCensoredCluster is the size above which chainLogLik first tries the upper tail.
-const largeCensoredCluster = 200
-
-// upperTail returns base + Σ_{j≥y} exp(logp(j)), summed until a term falls below 1e-14 of
-// the total (a log-likelihood needs no more), and false when that would take more than y/2
-// terms, or more than *budget, which it reduces by the terms it used (a tail that decays
-// slowly, as near R = 1, is cheaper summed from below).
-func upperTail(logp func(int) float64, y int, base float64, budget *int) (float64, bool) {
+// directTail returns Σ_{j≥y} P(Y = j) for a decaying chain-size distribution: by smoothTail
+// from t.sumFrom on, term by term below it, until a term falls below 1e−17 of the sum (or
+// underflows, and the rest with it).
+func directTail(logp func(int) float64, logpx func(float64) float64, y, sumFrom int) float64 {
+	if logpx != nil && y >= sumFrom {
+		return smoothTail(logpx, y)
+	}
 	var s neumaier
-	limit := min(y/2, *budget)
-	for j := y; j < y+limit; j++ {
+	for j := y; j < y+1_000_000; j++ {
+		if logpx != nil && j >= sumFrom {
+			s.add(smoothTail(logpx, j))
+			break
+		}
 		p := math.Exp(logp(j))
 		s.add(p)
-		if p <= 1e-14*(base+s.sum()) {
-			*budget -= j - y + 1
-			return base + s.sum(), true
+		if p < 1e-17*s.sum() || p == 0 {
+			break
 		}
 	}
-	*budget -= max(limit, 0)
-	return 0, false
+	return s.sum()
+}
+
+// continuousChainLogPMF is the chain-size log-probability of NB(R, k), or Borel for
+// k = +Inf, continued to real sizes x through log Γ (ChainSizeLogPMFNegBin and
+// ChainSizeLogPMFBorel at integer x), for smoothSum; nil when R ≤ 0.
+func continuousChainLogPMF(R, k float64) func(x float64) float64 {
+	if !(R > 0) {
+		return nil
+	}
+	if math.IsInf(k, 1) {
+		lr := math.Log(R)
+		return func(x float64) float64 {
+			c, _ := math.Lgamma(x + 1)
+			return -R*x + (x-1)*(lr+math.Log(x)) - c
+		}
+	}
+	lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
+	return func(x float64) float64 {
+		a, _ := math.Lgamma(k*x + x - 1)
+		b, _ := math.Lgamma(k * x)
+		c, _ := math.Lgamma(x + 1)
+		return a - b - c + (x-1)*lrk - (k*x+x-1)*l1rk
+	}
 }
 
 // FitChainSizes fits the negative binomial offspring model to cluster sizes alone by maximum
@@ -462,15 +485,27 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 	return out, nil
 }
 
-// ChainFitCost is the number of chain-size log-probabilities one likelihood evaluation of
-// these clusters computes: one per distinct size, plus the sum below the largest censored
-// cluster. A caller weighs it against the evaluations a bootstrap would need.
+// ChainFitCost is about the number of chain-size log-probabilities one likelihood
+// evaluation of these clusters computes: one per distinct size, the terms summed one by one
+// below the largest censored cluster (at most chainSumFrom), and the quadrature nodes of
+// smoothSum beyond (a panel per censored size and per doubling, 23 evaluations each). A
+// caller weighs it against the evaluations a bootstrap would need.
 func ChainFitCost(obs []ChainObservation) (int, error) {
 	t, err := tabulateChains(obs)
 	if err != nil {
 		return 0, err
 	}
-	return len(t.classes) + t.maxCens, nil
+	cost := len(t.classes) + min(t.maxCens, t.sumFrom)
+	if t.maxCens > t.sumFrom {
+		panels := int(math.Ceil(math.Log2(float64(t.maxCens) / float64(t.sumFrom))))
+		for _, c := range t.classes {
+			if c.censored && c.size > t.sumFrom {
+				panels++
+			}
+		}
+		cost += panels * (len(glNodes) + 3)
+	}
+	return cost, nil
 }
 
 // ChainWaldIntervals are large-sample intervals for a chain-size fit: R and k are taken on
