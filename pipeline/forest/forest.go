@@ -2,8 +2,10 @@ package forest
 
 import (
 	"fmt"
+	"runtime"
 	"slices"
 	"strings"
+	"sync"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
 )
@@ -112,24 +114,41 @@ func BuildIndexed(cases []linelist.Case, byID []int32) *Forest {
 		}
 		return byID[k], true
 	}
-	for i := range cases {
-		c := &cases[i]
-		f.Infector[i] = None
-		if c.InfectorID == "" {
-			continue
-		}
-		if c.InfectorID == c.ID {
-			f.problem(c, linelist.CodeSelfInfector, linelist.SeverityError,
-				fmt.Sprintf("case %q names itself as its infector; the link was dropped and the case treated as unlinked. Correct infector_id or leave it blank", c.ID))
-			continue
-		}
-		j, ok := lookup(c.InfectorID)
-		if !ok {
-			f.problem(c, linelist.CodeUnknownInfector, linelist.SeverityError,
-				fmt.Sprintf("infector_id %q matches no case_id in the file; the link was dropped and case %q treated as unlinked. Check the identifier, or add the infector's row", c.InfectorID, c.ID))
-			continue
-		}
-		f.Infector[i] = j
+	// The look-ups are independent, so they run in chunks side by side; each chunk keeps its
+	// own problems, joined in chunk order (and sorted at the end), so the result does not
+	// depend on the number of workers.
+	workers := min(runtime.GOMAXPROCS(0), max(1, n/50_000))
+	chunk := (n + workers - 1) / max(workers, 1)
+	parts := make([]Forest, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Add(1)
+		go func(part *Forest, lo, hi int) {
+			defer wg.Done()
+			for i := lo; i < hi; i++ {
+				c := &cases[i]
+				f.Infector[i] = None
+				if c.InfectorID == "" {
+					continue
+				}
+				if c.InfectorID == c.ID {
+					part.problem(c, linelist.CodeSelfInfector, linelist.SeverityError,
+						fmt.Sprintf("case %q names itself as its infector; the link was dropped and the case treated as unlinked. Correct infector_id or leave it blank", c.ID))
+					continue
+				}
+				j, ok := lookup(c.InfectorID)
+				if !ok {
+					part.problem(c, linelist.CodeUnknownInfector, linelist.SeverityError,
+						fmt.Sprintf("infector_id %q matches no case_id in the file; the link was dropped and case %q treated as unlinked. Check the identifier, or add the infector's row", c.InfectorID, c.ID))
+					continue
+				}
+				f.Infector[i] = j
+			}
+		}(&parts[w], min(w*chunk, n), min((w+1)*chunk, n))
+	}
+	wg.Wait()
+	for _, part := range parts {
+		f.Problems = append(f.Problems, part.Problems...)
 	}
 	f.breakCycles(cases)
 	for i := range cases {

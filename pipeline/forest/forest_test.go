@@ -3,6 +3,7 @@ package forest
 import (
 	"fmt"
 	"reflect"
+	"runtime"
 	"testing"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
@@ -222,5 +223,35 @@ func TestBuildIndexedMatchesBuild(t *testing.T) {
 	}
 	if c := BuildIndexed(cs, []int32{0}); !reflect.DeepEqual(a, c) {
 		t.Fatal("an index that does not fit should be ignored")
+	}
+}
+
+// TestBuildIndependentOfWorkers builds a forest large enough for the look-ups to run in
+// chunks, with unknown and self-naming infectors spread through it, on one core and on four:
+// the forests, problems included, must be identical.
+func TestBuildIndependentOfWorkers(t *testing.T) {
+	const n = 240_000
+	cs := make([]linelist.Case, n)
+	for i := range cs {
+		cs[i] = linelist.Case{ID: fmt.Sprint("c", i), Onset: linelist.Day(20000 + i%300), Row: i + 2}
+		switch {
+		case i%7919 == 0:
+			cs[i].InfectorID = fmt.Sprint("missing", i)
+		case i%10007 == 0:
+			cs[i].InfectorID = cs[i].ID
+		case i > 0 && i%3 != 0:
+			cs[i].InfectorID = fmt.Sprint("c", (i*7)/10)
+		}
+	}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	runtime.GOMAXPROCS(1)
+	one := Build(cs)
+	runtime.GOMAXPROCS(4)
+	four := Build(cs)
+	if len(one.Problems) < 40 {
+		t.Fatalf("only %d problems: the test data should hold dozens", len(one.Problems))
+	}
+	if !reflect.DeepEqual(one, four) {
+		t.Fatal("the forest built with 4 workers differs from the one built with 1")
 	}
 }
