@@ -134,7 +134,9 @@ type reader struct {
 	asOf   Day
 	intern map[string]string
 	strata map[Strata]*Strata
-	enc    *textDecoder
+	// encName is the decoder's decision as of the batch being read (the decoder itself
+	// runs on the splitting goroutine).
+	encName string
 }
 
 func read(src io.Reader, size int64, opts Options) (*LineList, error) {
@@ -213,36 +215,38 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		asOf:   opts.AsOf,
 		intern: map[string]string{},
 		strata: map[Strata]*Strata{},
-		enc:    dec,
 	}
 	ll := rd.ll
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
+	// Splitting records (encoding/csv and the text decoder) runs on its own goroutine, a
+	// batch ahead of turning them into cases; the batches arrive in file order, so the
+	// result is that of one sequential pass.
+	stop := make(chan struct{})
+	defer close(stop)
+	batches := splitRecords(cr, dec, stop)
+	for b := range batches {
+		if b.err != nil {
+			return nil, readErr(b.err)
 		}
-		var pe *csv.ParseError
-		if err != nil && !errors.As(err, &pe) {
-			return nil, readErr(err)
+		rd.encName = b.enc
+		for _, r := range b.recs {
+			ll.Rows++
+			if opts.MaxRows > 0 && ll.Rows > opts.MaxRows {
+				return nil, &FileError{Code: FileTooManyRows, Message: fmt.Sprintf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
+			}
+			switch {
+			case r.pe != nil:
+				// encoding/csv resumes at the next line, so one malformed record is one row.
+				rd.quoteProblem(r.pe)
+			case len(r.fields) != len(header):
+				rd.fieldCount(r.fields, r.line, r.last, len(header))
+			default:
+				rd.row(r.fields, r.line)
+			}
+			if ll.Rows == presizeAt && size > 0 {
+				rd.presize(size, b.offset, opts.MaxRows)
+			}
 		}
-		ll.Rows++
-		if opts.MaxRows > 0 && ll.Rows > opts.MaxRows {
-			return nil, &FileError{Code: FileTooManyRows, Message: fmt.Sprintf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
-		}
-		if pe != nil {
-			// encoding/csv resumes at the next line, so one malformed record is one row.
-			rd.quoteProblem(pe)
-			continue
-		}
-		line, _ := cr.FieldPos(0)
-		if len(rec) != len(header) {
-			rd.fieldCount(cr, rec, line, len(header))
-			continue
-		}
-		rd.row(rec, line)
-		if ll.Rows == 1024 && size > 0 {
-			rd.presize(size, cr.InputOffset(), opts.MaxRows)
-		}
+		recycle(b)
 	}
 	if ll.Rows == 0 {
 		return nil, &FileError{Code: FileNoDataRows, Message: "the file has a header but no data rows; check that the export included the cases"}
@@ -293,10 +297,10 @@ func (rd *reader) quoteProblem(pe *csv.ParseError) {
 	rd.problem(pe.StartLine, "", CodeFieldCount, SeverityError, msg)
 }
 
-func (rd *reader) fieldCount(cr *csv.Reader, rec []string, line, want int) {
+func (rd *reader) fieldCount(rec []string, line, last, want int) {
 	rd.ll.Rejected++
 	msg := fmt.Sprintf("the row has %d fields but the header has %d; check for a delimiter inside an unquoted value or a missing or extra field; row rejected", len(rec), want)
-	if last, _ := cr.FieldPos(len(rec) - 1); last > line {
+	if last > line {
 		msg = fmt.Sprintf("the row has %d fields but the header has %d, and the record runs from line %d to line %d, so a quote is probably unbalanced; fix the quoting; row rejected", len(rec), want, line, last)
 	}
 	rd.problem(line, "", CodeFieldCount, SeverityError, msg)
@@ -313,7 +317,7 @@ func (rd *reader) cell(rec []string, ci int) string {
 // badText explains why a cell cannot be used as text, or returns "".
 func (rd *reader) badText(s string) string {
 	if !utf8.ValidString(s) {
-		return fmt.Sprintf("contains bytes that are not valid UTF-8, although the file was read as %s (decided at its first non-ASCII character); export the file again as UTF-8, or set input.encoding in the config if the whole file is Latin-1 or Windows-1252", rd.enc.encoding())
+		return fmt.Sprintf("contains bytes that are not valid UTF-8, although the file was read as %s (decided at its first non-ASCII character); export the file again as UTF-8, or set input.encoding in the config if the whole file is Latin-1 or Windows-1252", rd.encName)
 	}
 	if strings.IndexByte(s, 0) >= 0 {
 		return "contains a NUL byte; remove it or export the file again"
