@@ -3,6 +3,7 @@ package linelist
 import (
 	"bufio"
 	"bytes"
+	"encoding/binary"
 	"io"
 	"unicode/utf8"
 
@@ -83,11 +84,8 @@ func (d *textDecoder) Read(p []byte) (int, error) {
 			return 0, err
 		}
 	}
-	buf, _ := d.src.Peek(d.src.Buffered())
-	i := 0
-	for i < len(buf) && buf[i] < utf8.RuneSelf {
-		i++
-	}
+	buf, _ := d.src.Peek(min(d.src.Buffered(), len(p)))
+	i := asciiPrefix(buf)
 	if i > 0 {
 		n := copy(p, buf[:i])
 		_, _ = d.src.Discard(n)
@@ -101,6 +99,21 @@ func (d *textDecoder) Read(p []byte) (int, error) {
 		d.enc = EncUTF8
 	}
 	return d.Read(p)
+}
+
+// asciiPrefix returns the length of the longest prefix of b that is ASCII, testing eight
+// bytes at a time (a byte is ASCII when its top bit is clear).
+func asciiPrefix(b []byte) int {
+	i := 0
+	for ; i+8 <= len(b); i += 8 {
+		if binary.LittleEndian.Uint64(b[i:])&0x8080808080808080 != 0 {
+			break
+		}
+	}
+	for i < len(b) && b[i] < utf8.RuneSelf {
+		i++
+	}
+	return i
 }
 
 // sniffDelimiter counts ',', ';' and tabs outside double quotes on the header line (as far
