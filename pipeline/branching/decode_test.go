@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"reflect"
+	"runtime"
 	"testing"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -323,5 +325,25 @@ func TestUnderflowRadiiBound(t *testing.T) {
 	}
 	if r := underflowRadii(d, 1, N); r[0] != 0 {
 		t.Fatalf("a = 1: ρ_0² = %v, want 0 (one case never underflows)", r[0])
+	}
+}
+
+// TestProjectIndependentOfCores runs a many-case projection, whose circle points are handed
+// out to workers in blocks, on one core and on four: the results must be identical.
+func TestProjectIndependentOfCores(t *testing.T) {
+	reps := []offspring.Distribution{offspring.NegBin{R: 0.99, K: 0.5}, offspring.NegBin{R: 0.97, K: 0.45}, offspring.Poisson{R: 1.01}}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	runtime.GOMAXPROCS(1)
+	one, err := Project(reps, 5000, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	runtime.GOMAXPROCS(4)
+	four, err := Project(reps, 5000, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(one, four) {
+		t.Fatal("the projection on 4 cores differs from the one on 1")
 	}
 }
