@@ -408,8 +408,31 @@ func (st *renderState) chartBootstrap(name, label string, b *analysis.Bins, e an
 	}))
 	obj, err := finish(name, f, bar, nil)
 	caption := fmt.Sprintf("How %s varied across the bootstrap replicates. Solid line: the estimate; dashed lines: the %s %s interval.",
-		label, st.levelText(), st.intervalName())
+		label, st.levelText(), st.intervalName()) + undrawnReplicates(label, b)
 	return one(chartSpec{ID: id, Title: "Bootstrap distribution of " + label, Caption: caption, Height: 260, Option: obj}, err)
+}
+
+// undrawnReplicates says which replicates a bootstrap histogram leaves out: those beyond its
+// last edge (the 99th percentile) and those at +∞ (k in the Poisson limit). The interval
+// lines still count them.
+func undrawnReplicates(label string, b *analysis.Bins) string {
+	count := func(n int) string {
+		if n == 1 {
+			return "1 replicate"
+		}
+		return formatNumber(float64(n), 0) + " replicates"
+	}
+	var parts []string
+	if b.Overflow > 0 {
+		parts = append(parts, fmt.Sprintf("%s above %s (beyond the 99th percentile)", count(b.Overflow), formatNumber(b.Edges[len(b.Edges)-1], 2)))
+	}
+	if b.Infinite > 0 {
+		parts = append(parts, fmt.Sprintf("%s in the Poisson limit (%s = ∞)", count(b.Infinite), label))
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return " Not drawn, but counted in the interval: " + strings.Join(parts, " and ") + "."
 }
 
 func (st *renderState) chartConcentration(o *analysis.Offspring) ([]chartSpec, string, error) {

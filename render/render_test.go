@@ -301,3 +301,20 @@ func TestReportSizeForAMillionCases(t *testing.T) {
 		t.Fatalf("report for a million-case summary is %d bytes, over 3 MB", len(html))
 	}
 }
+
+// TestBootstrapChartSaysWhatItLeavesOut checks that a bootstrap histogram's caption counts
+// the replicates it does not draw: those beyond the 99th percentile and, for k, those in the
+// Poisson limit.
+func TestBootstrapChartSaysWhatItLeavesOut(t *testing.T) {
+	s := fixtureSummary()
+	html := mustRender(t, s, Options{Charts: []string{"bootstrap_k"}})
+	if strings.Contains(html, "Not drawn") {
+		t.Fatal("a caption speaks of undrawn replicates although none were left out")
+	}
+	s.Offspring.ReplicatesK.Overflow, s.Offspring.ReplicatesK.Infinite = 19, 1
+	html = mustRender(t, s, Options{Charts: []string{"bootstrap_k"}})
+	want := "Not drawn, but counted in the interval: 19 replicates above 1.16 (beyond the 99th percentile) and 1 replicate in the Poisson limit (k = ∞)."
+	if !strings.Contains(html, want) {
+		t.Fatalf("the k chart's caption does not say %q", want)
+	}
+}

@@ -9,6 +9,7 @@ import (
 
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/caseweave/caseweave/pipeline/simulate"
 )
 
@@ -190,5 +191,26 @@ func TestPseudonymised(t *testing.T) {
 	}
 	if !ids[s.Clusters.Largest[0].Nodes[0].ID] || !ids[s.Offspring.Superspreaders[0]] {
 		t.Fatal("the original summary was modified")
+	}
+}
+
+// TestBinsCountWhatTheyLeaveOut checks the bootstrap histogram's bookkeeping: every finite
+// value is in a bin or in Overflow, +∞ (k in the Poisson limit) in Infinite, NaN nowhere
+// (common practice: the counts must add up to the replicates).
+func TestBinsCountWhatTheyLeaveOut(t *testing.T) {
+	var reps []offspring.Params
+	for i := range 200 {
+		reps = append(reps, offspring.Params{R: 1, K: 0.3 + float64(i)/100})
+	}
+	reps = append(reps, offspring.Params{R: 1, K: math.Inf(1)}, offspring.Params{R: 1, K: math.Inf(1)},
+		offspring.Params{R: 1, K: math.NaN()}, offspring.Params{R: 1, K: 1e4})
+	b := bins(reps, offspring.StatK)
+	binned := 0
+	for _, c := range b.Counts {
+		binned += c
+	}
+	if b.Infinite != 2 || binned+b.Overflow != 201 || b.Overflow < 1 {
+		t.Fatalf("binned %d, overflow %d, infinite %d: want 201 finite values binned or over, 2 infinite",
+			binned, b.Overflow, b.Infinite)
 	}
 }

@@ -656,11 +656,16 @@ func finite(x float64) *float64 {
 
 // bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins
 // from the smallest value to the 99th percentile; larger values (k can run to thousands
-// in replicates near the Poisson limit) are counted in Overflow, non-finite ones left out.
+// in replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
+// itself) in Infinite; NaN (failed fits, counted elsewhere) is left out.
 func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	var xs []float64
+	infinite := 0
 	for _, p := range reps {
-		if v := stat(p); !math.IsNaN(v) && !math.IsInf(v, 0) {
+		switch v := stat(p); {
+		case math.IsInf(v, 1):
+			infinite++
+		case !math.IsNaN(v) && !math.IsInf(v, 0):
 			xs = append(xs, v)
 		}
 	}
@@ -674,7 +679,7 @@ func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 		hi = lo + 1e-9
 	}
 	width := (hi - lo) / n
-	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n)}
+	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n), Infinite: infinite}
 	for i := range b.Edges {
 		b.Edges[i] = lo + float64(i)*width
 	}

@@ -182,11 +182,14 @@ type ChainSizeFit struct {
 }
 
 // Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]);
-// Overflow counts the values above the last edge (beyond the 99th percentile).
+// Overflow counts the values above the last edge (beyond the 99th percentile), Infinite the
+// values at +∞ (for k: replicates in the Poisson limit). Neither is drawn; the chart's
+// caption says how many there were.
 type Bins struct {
 	Edges    []float64 `json:"edges"`
 	Counts   []int     `json:"counts"`
 	Overflow int       `json:"overflow"`
+	Infinite int       `json:"infinite"`
 }
 
 // CurvePoint is one point of a curve in the unit square.
