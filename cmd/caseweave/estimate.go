@@ -74,7 +74,7 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		}
 		o.SerialFixed = &ms
 	}
-	o.Progress = progress(e, f.replicates)
+	o.Progress = progress(e)
 	return o, nil
 }
 
@@ -89,7 +89,12 @@ func runAnalysis(ld *loaded, o analysis.Options) (*analysis.Summary, error) {
 
 // progress returns a bootstrap progress callback that draws a bar on stderr once the work
 // has run for a second, and only when stderr is a terminal.
-func progress(e env, total int) func(done, total int) {
+func progress(e env) func(done, total int) {
+	return progressAfter(e, time.Second)
+}
+
+// progressAfter is progress with the delay before the bar appears as a parameter.
+func progressAfter(e env, delay time.Duration) func(done, total int) {
 	if !e.stderrIsTerminal {
 		return nil
 	}
@@ -100,7 +105,7 @@ func progress(e env, total int) func(done, total int) {
 		mu.Lock()
 		defer mu.Unlock()
 		if bar == nil {
-			if time.Since(start) < time.Second || done == n {
+			if time.Since(start) < delay || done == n {
 				return
 			}
 			bar = progressbar.NewOptions(n, progressbar.OptionSetWriter(e.stderr),
