@@ -47,6 +47,10 @@ func smoothTail(g func(float64) float64, a int) float64 {
 // difference of log Γ values would keep fewer than three significant digits.
 const maxSmoothArg = 1e11
 
+// maxPanels bounds the panels of one sum, so that no input can keep it running: a panel
+// either doubles x or spans a drop of e^12 in f, so a chain-size sum needs a few dozen.
+const maxPanels = 100_000
+
 // eulerMaclaurin is the sum over the integers in (lo, hi) described at smoothSum; hi may be
 // +Inf.
 func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
@@ -68,14 +72,17 @@ func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
 	var s neumaier
 	s.add(-edge(lo))
 	x := lo
-	for x < hi {
+	for panels := 0; x < hi; panels++ {
+		if panels == maxPanels {
+			return math.NaN() // cannot happen for a chain-size distribution; the caller's guard rejects NaN
+		}
 		gx, slope := slope(x)
 		if slope < 0 {
 			if rest := math.Exp(gx) / -slope; rest == 0 || rest < 1e-17*math.Abs(s.sum()) {
 				return s.sum() // negligible rest; the upper correction is negligible with it
 			}
 		}
-		if !(x < maxSmoothArg) || math.IsNaN(slope) {
+		if !(x < maxSmoothArg) || math.IsNaN(slope) || math.IsInf(slope, 0) {
 			return s.sum() // beyond it log Γ has no significant digits left for a difference
 		}
 		w := math.Min(x, hi-x)

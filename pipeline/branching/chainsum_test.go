@@ -84,3 +84,18 @@ func TestChainLogLikQuadratureNational(t *testing.T) {
 		}
 	}
 }
+
+// TestChainLogLikExtremeParameters evaluates the national table's likelihood at the corners
+// of the region the optimisers may visit: each must return (finite or not) rather than run on.
+func TestChainLogLikExtremeParameters(t *testing.T) {
+	tab, err := tabulateChains(nationalChains(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range [][2]float64{{1e-300, 1}, {1e-12, 1e-8}, {999, 1e-8}, {999, 1e5}, {0.5, 1e-8}, {1, 1e5}, {1, 1e-8}, {5e-324, math.Inf(1)}, {999, math.Inf(1)}} {
+		v := chainLogLik(&tab, p[0], p[1])
+		if v > 0 {
+			t.Errorf("R=%g k=%g: log-likelihood %v is positive", p[0], p[1], v)
+		}
+	}
+}
