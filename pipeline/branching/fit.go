@@ -126,21 +126,7 @@ func (t *chainTable) lgammaY1(y int) float64 {
 // thousands of cases costs about as much as one of a few hundred. Where the difference
 // would cancel (R < 1 and a tail below 1e−4) the tails are summed from above instead.
 func chainLogLik(t *chainTable, R, k float64) float64 {
-	logp := func(y int) float64 { return ChainSizeLogPMFBorel(R, y) }
-	logpx := continuousChainLogPMF(R, k)
-	if !math.IsInf(k, 1) && R > 0 {
-		// ChainSizeLogPMFNegBin with its (R, k)-only terms hoisted out of the loop: this
-		// likelihood runs inside every Nelder–Mead step of every bootstrap replicate.
-		lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
-		logp = func(y int) float64 {
-			fy := float64(y)
-			a, _ := math.Lgamma(k*fy + fy - 1)
-			b, _ := math.Lgamma(k * fy)
-			return a - b - t.lgammaY1(y) + (fy-1)*lrk - (k*fy+fy-1)*l1rk
-		}
-	} else if !math.IsInf(k, 1) {
-		logp = func(y int) float64 { return ChainSizeLogPMFNegBin(R, k, y) }
-	}
+	logp, logpx := chainLogPMFs(t, R, k)
 	ll := 0.0
 	// The censored classes, in increasing size y_i, with cum_i = Σ_{j<y_i} P(Y = j) and the
 	// increments seg_i = cum_i − cum_{i−1}, each summed on its own.
@@ -214,27 +200,34 @@ func directTail(logp func(int) float64, logpx func(float64) float64, y, sumFrom 
 	return s.sum()
 }
 
-// continuousChainLogPMF is the chain-size log-probability of NB(R, k), or Borel for
-// k = +Inf, continued to real sizes x through log Γ (ChainSizeLogPMFNegBin and
-// ChainSizeLogPMFBorel at integer x), for smoothSum; nil when R ≤ 0.
-func continuousChainLogPMF(R, k float64) func(x float64) float64 {
+// chainLogPMFs returns the chain-size log-probability of NB(R, k), or Borel for k = +Inf
+// (ChainSizeLogPMFNegBin, ChainSizeLogPMFBorel), twice from one formula: at integer sizes,
+// with log Γ(y + 1) from the table's cache, and continued to real sizes x through log Γ, for
+// smoothSum (nil when R ≤ 0, where every chain is its root alone). The (R, k)-only terms are
+// hoisted out of the returned functions: the likelihood runs inside every optimiser step of
+// every bootstrap replicate.
+func chainLogPMFs(t *chainTable, R, k float64) (logp func(y int) float64, logpx func(x float64) float64) {
 	if !(R > 0) {
-		return nil
+		return func(y int) float64 { return ChainSizeLogPMFNegBin(R, k, y) }, nil
 	}
+	var core func(x, lgx1 float64) float64 // log P(Y = x) given log Γ(x + 1)
 	if math.IsInf(k, 1) {
 		lr := math.Log(R)
-		return func(x float64) float64 {
-			c, _ := math.Lgamma(x + 1)
-			return -R*x + (x-1)*(lr+math.Log(x)) - c
+		core = func(x, lgx1 float64) float64 { return -R*x + (x-1)*(lr+math.Log(x)) - lgx1 }
+	} else {
+		lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
+		core = func(x, lgx1 float64) float64 {
+			a, _ := math.Lgamma(k*x + x - 1)
+			b, _ := math.Lgamma(k * x)
+			return a - b - lgx1 + (x-1)*lrk - (k*x+x-1)*l1rk
 		}
 	}
-	lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
-	return func(x float64) float64 {
-		a, _ := math.Lgamma(k*x + x - 1)
-		b, _ := math.Lgamma(k * x)
+	logp = func(y int) float64 { return core(float64(y), t.lgammaY1(y)) }
+	logpx = func(x float64) float64 {
 		c, _ := math.Lgamma(x + 1)
-		return a - b - c + (x-1)*lrk - (k*x+x-1)*l1rk
+		return core(x, c)
 	}
+	return logp, logpx
 }
 
 // FitChainSizes fits the negative binomial offspring model to cluster sizes alone by maximum
