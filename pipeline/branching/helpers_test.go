@@ -1,11 +1,13 @@
 package branching
 
 import (
+	"encoding/csv"
 	"encoding/json"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strconv"
 	"testing"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -153,4 +155,36 @@ func simulateChain(draw func() int, cap int) (int, bool) {
 
 func near(got, want, tol float64) bool {
 	return math.Abs(got-want) <= tol
+}
+
+// nationalChains reads testdata/branching/national_chains.csv: the cluster sizes of issue
+// 8's simulated 1M-case file (19,000 clusters, 73 censored, the largest censored 21,729),
+// exported from that report's size histogram.
+func nationalChains(tb testing.TB) []ChainObservation {
+	tb.Helper()
+	f, err := os.Open("../../testdata/branching/national_chains.csv")
+	if err != nil {
+		tb.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		tb.Fatal(err)
+	}
+	var obs []ChainObservation
+	for _, row := range rows[1:] {
+		var v [3]int
+		for i := range v {
+			if v[i], err = strconv.Atoi(row[i]); err != nil {
+				tb.Fatal(err)
+			}
+		}
+		for range v[1] {
+			obs = append(obs, ChainObservation{Size: v[0]})
+		}
+		for range v[2] {
+			obs = append(obs, ChainObservation{Size: v[0], Censored: true})
+		}
+	}
+	return obs
 }
