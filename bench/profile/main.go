@@ -6,7 +6,8 @@
 //	go run ./bench/profile -as-of 2027-07-01 -cpuprofile cpu.pprof big.csv
 //	go tool pprof -top -cum cpu.pprof
 //
-// The analysis is analysis.Run as the report command calls it; -skip-chain-bootstrap is
+// With -by-jurisdiction it then analyses and renders each jurisdiction on its own, as
+// `report --by jurisdiction` does. The analysis is analysis.Run as the report command calls it; -skip-chain-bootstrap is
 // not offered on purpose, so the profile shows what a user waits for.
 package main
 
@@ -16,6 +17,7 @@ import (
 	"os"
 	"runtime"
 	"runtime/pprof"
+	"sort"
 	"time"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
@@ -30,6 +32,7 @@ func main() {
 	mem := flag.String("memprofile", "", "write a heap profile (after the render) to FILE")
 	replicates := flag.Int("bootstrap", analysis.DefaultReplicates, "bootstrap replicates")
 	out := flag.String("o", "", "write the HTML report to FILE")
+	byJur := flag.Bool("by-jurisdiction", false, "also analyse and render each jurisdiction on its own, as report --by jurisdiction does")
 	flag.Parse()
 	if flag.NArg() != 1 || *asOf == "" {
 		fmt.Fprintln(os.Stderr, "usage: profile -as-of YYYY-MM-DD [-cpuprofile FILE] [-memprofile FILE] LINELIST.csv")
@@ -75,6 +78,28 @@ func main() {
 		fail(err)
 	}
 	stage("render")
+	if *byJur {
+		var values []string
+		seen := map[string]bool{}
+		for i := range ll.Cases {
+			if v := ll.Cases[i].Jurisdiction; !seen[v] {
+				seen[v] = true
+				values = append(values, v)
+			}
+		}
+		sort.Strings(values)
+		for _, v := range values {
+			sel := func(c *linelist.Case) bool { return c.Jurisdiction == v }
+			s, err := analysis.Run(path, ll, f, analysis.Options{AsOf: day, Replicates: *replicates, Seed: 1, Select: sel})
+			if err != nil {
+				fail(err)
+			}
+			if _, err := render.Render(s.Pseudonymised(""), render.Options{ShowIDs: true}); err != nil {
+				fail(err)
+			}
+			stage("jurisdiction " + v)
+		}
+	}
 	fmt.Printf("%-12s %8.3f s  rows %d  clusters %d  html %d bytes\n", "total", time.Since(total).Seconds(), ll.Rows, len(f.Clusters), len(html))
 	if *out != "" {
 		if err := os.WriteFile(*out, html, 0o644); err != nil {

@@ -237,12 +237,12 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 	}
 	r := radius(M, dampingDigits)
 	invB := complex(1/float64(len(ds)), 0)
-	rho2 := make([][]float64, len(ds))
+	logRho := make([][]float64, len(ds))
 	for b, d := range ds {
 		if skip {
-			rho2[b] = underflowRadii(d, a, N)
+			logRho[b] = underflowRadii(d, a, N)
 		} else {
-			rho2[b] = slices.Repeat([]float64{-1}, N) // never skip
+			logRho[b] = slices.Repeat([]float64{math.Inf(-1)}, N) // never skip
 		}
 	}
 	// A PGF has real coefficients, so G(s̄) is the conjugate of G(s): the points of the upper
@@ -250,7 +250,7 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 	half := M/2 + 1
 	last := make([]int, len(ds))
 	for b, d := range ds {
-		last[b] = lastLivePoint(d, rho2[b][0], r, M, half)
+		last[b] = lastLivePoint(d, logRho[b][0], r, M, half)
 	}
 	// The points near s = r carry most of the work, so they are handed out in small blocks
 	// to whichever worker is free; each value is still summed by one goroutine in a fixed
@@ -275,11 +275,25 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 						}
 						w := s
 						for n := 0; n < N; n++ {
-							w = d.PGFComplex(w)
-							if re, im := real(w), imag(w); re*re+im*im <= rho2[b][n] {
+							// l is a logarithm of w' = G(w): its real part, log|w'|, decides
+							// the skip before any exponential is taken, and w'^a = e^{a·l}
+							// for any branch, a being an integer.
+							l, ok := logPGFComplex(d, w)
+							if !ok {
+								w = d.PGFComplex(w)
+								l = cmplx.Log(w)
+							}
+							if real(l) < logRho[b][n] {
 								break
 							}
-							vals[n][m] += cmplxIntPow(w, a) * invB
+							if ok {
+								w = cmplx.Exp(l) // G(w) exactly as PGFComplex computes it
+							}
+							if a <= 1024 {
+								vals[n][m] += cmplxIntPow(w, a) * invB
+							} else {
+								vals[n][m] += cmplx.Exp(complex(float64(a), 0)*l) * invB
+							}
 						}
 					}
 				}
@@ -295,13 +309,13 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 	return vals
 }
 
-// lastLivePoint returns the largest m < half at which |G(s_m)|², s_m = r·e^{2πim/M}, may
-// exceed rho2 (the first-step radius of underflowRadii); from there on every term of the
+// lastLivePoint returns the largest m < half at which log|G(s_m)|, s_m = r·e^{2πim/M}, may
+// reach logRho (the first-step bound of underflowRadii); from there on every term of the
 // replicate is 0. For the Poisson, geometric and negative binomial families |G(r·e^{iθ})|
 // decreases in θ on [0, π] (|1 + c(1 − s)| grows as Re s falls; for the Poisson,
 // |G| = e^{R(Re s − 1)}), so the first point past the bound is found by bisection. Any
 // other distribution gets half − 1: every point is evaluated.
-func lastLivePoint(d offspring.Distribution, rho2, r float64, M, half int) int {
+func lastLivePoint(d offspring.Distribution, logRho, r float64, M, half int) int {
 	var logAbs2 func(s complex128) float64 // log|G(s)|²
 	switch d := d.(type) {
 	case offspring.Poisson:
@@ -311,17 +325,30 @@ func lastLivePoint(d offspring.Distribution, rho2, r float64, M, half int) int {
 	case offspring.NegBin:
 		logAbs2 = func(s complex128) float64 { return -d.K * logAbs2Linear(d.R/d.K, s) }
 	}
-	if logAbs2 == nil || rho2 <= 0 {
+	if logAbs2 == nil || math.IsInf(logRho, -1) {
 		return half - 1
 	}
-	cut := math.Log(rho2)
-	dead := func(m int) bool { return logAbs2(cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))) <= cut }
+	cut := 2 * logRho
+	dead := func(m int) bool { return logAbs2(cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))) < cut }
 	if !dead(half - 1) {
 		return half - 1
 	}
 	// The first dead point: dead(m) is false below it and true from it on.
 	first := sort.Search(half, dead)
 	return first - 1
+}
+
+// logPGFComplex is logPGF on the complex disc: a logarithm of G(s) whose exponential is, bit
+// for bit, what PGFComplex returns, for the families where that logarithm comes first
+// (negative binomial, Poisson); ok is false for the others.
+func logPGFComplex(d offspring.Distribution, s complex128) (l complex128, ok bool) {
+	switch d := d.(type) {
+	case offspring.NegBin:
+		return complex(-d.K, 0) * cmplx.Log(1+complex(d.R/d.K, 0)*(1-s)), true
+	case offspring.Poisson:
+		return complex(d.R, 0) * (s - 1), true
+	}
+	return 0, false
 }
 
 // logAbs2Linear is log|1 + c(1 − s)|².
@@ -334,14 +361,14 @@ func logAbs2Linear(c float64, s complex128) float64 {
 // smallest subnormal is e^−744.4).
 const underflowLog = -760
 
-// underflowRadii returns ρ_n² (n = 0..N−1) such that |G_{n+1}(s)|² ≤ ρ_n² implies that
-// G_{n+1+j}(s)^a underflows to 0 for every j = 0..N−1−n. It rests on |G(z)| ≤ G(|z|) for a
-// PGF (its coefficients are non-negative), so |G_{n+1+j}(s)| ≤ G_j(|G_{n+1}(s)|) with G_j the
-// j-fold composition on [0, 1], which is increasing; ρ_n is the largest ρ with
-// a·log G_j(ρ) < underflowLog for all those j, found by bisection. ρ_n = 0 when no ρ
-// qualifies (or a is 0).
+// underflowRadii returns log ρ_n (n = 0..N−1) such that log|G_{n+1}(s)| < log ρ_n implies
+// that G_{n+1+j}(s)^a underflows to 0 for every j = 0..N−1−n. It rests on |G(z)| ≤ G(|z|)
+// for a PGF (its coefficients are non-negative), so |G_{n+1+j}(s)| ≤ G_j(|G_{n+1}(s)|) with
+// G_j the j-fold composition on [0, 1], which is increasing; ρ_n is the largest ρ with
+// a·log G_j(ρ) < underflowLog for all those j, found by bisection. log ρ_n = −∞ (never skip)
+// when no ρ > 0 qualifies (or a is 0).
 func underflowRadii(d offspring.Distribution, a, N int) []float64 {
-	out := make([]float64, N)
+	out := slices.Repeat([]float64{math.Inf(-1)}, N)
 	if a == 0 {
 		return out
 	}
@@ -372,7 +399,7 @@ func underflowRadii(d offspring.Distribution, a, N int) []float64 {
 				hi = mid
 			}
 		}
-		out[n] = lo * lo
+		out[n] = math.Log(lo) // −∞ when lo = 0
 	}
 	return out
 }

@@ -308,12 +308,12 @@ func TestUnderflowRadiiBound(t *testing.T) {
 	// Each radius must satisfy its own definition: at ρ_n, every remaining term underflows.
 	d := offspring.NegBin{R: 0.99, K: 0.5}
 	const a, N = 20000, 4
-	rho2 := underflowRadii(d, a, N)
-	for n, r2 := range rho2 {
-		if r2 <= 0 || r2 >= 1 {
-			t.Fatalf("ρ_%d² = %v, want a radius in (0, 1) for a = %d", n, r2, a)
+	logRho := underflowRadii(d, a, N)
+	for n, lr := range logRho {
+		if !(lr < 0) || math.IsInf(lr, -1) {
+			t.Fatalf("log ρ_%d = %v, want a radius in (0, 1) for a = %d", n, lr, a)
 		}
-		x := math.Sqrt(r2)
+		x := math.Exp(lr)
 		for j := 0; j < N-n; j++ {
 			if j > 0 {
 				x = d.PGF(x)
@@ -323,8 +323,8 @@ func TestUnderflowRadiiBound(t *testing.T) {
 			}
 		}
 	}
-	if r := underflowRadii(d, 1, N); r[0] != 0 {
-		t.Fatalf("a = 1: ρ_0² = %v, want 0 (one case never underflows)", r[0])
+	if r := underflowRadii(d, 1, N); !math.IsInf(r[0], -1) {
+		t.Fatalf("a = 1: log ρ_0 = %v, want −∞ (one case never underflows)", r[0])
 	}
 }
 
