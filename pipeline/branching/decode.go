@@ -289,7 +289,7 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 							if ok {
 								w = cmplx.Exp(l) // G(w) exactly as PGFComplex computes it
 							}
-							if a <= 1024 {
+							if a <= binaryPowerMax {
 								vals[n][m] += cmplxIntPow(w, a) * invB
 							} else {
 								vals[n][m] += cmplx.Exp(complex(float64(a), 0)*l) * invB
@@ -464,9 +464,12 @@ func intPow(s float64, a int) float64 {
 	return math.Exp(float64(a) * math.Log(s))
 }
 
-// cmplxIntPow is w^a for an integer a ≥ 0: binary powering for a ≤ 1024 (at most 20
-// multiplications), exp(a·Log w) beyond, which is exact in exact arithmetic for any branch
-// of the logarithm because a is an integer.
+// binaryPowerMax is the largest power cmplxIntPow takes by repeated squaring.
+const binaryPowerMax = 1024
+
+// cmplxIntPow is w^a for an integer a ≥ 0: binary powering for a ≤ binaryPowerMax (at most
+// 20 multiplications), exp(a·Log w) beyond, which is exact in exact arithmetic for any
+// branch of the logarithm because a is an integer.
 func cmplxIntPow(w complex128, a int) complex128 {
 	switch {
 	case a == 0:
@@ -475,7 +478,7 @@ func cmplxIntPow(w complex128, a int) complex128 {
 		return w
 	case w == 0:
 		return 0
-	case a <= 1024:
+	case a <= binaryPowerMax:
 		r := complex(1, 0)
 		for ; a > 0; a >>= 1 {
 			if a&1 == 1 {
