@@ -1,11 +1,8 @@
 package branching
 
 import (
-	"encoding/csv"
 	"math"
-	"os"
 	"strconv"
-	"strings"
 	"testing"
 )
 
@@ -113,16 +110,7 @@ func TestChainLogLikMatchesR(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	raw, err := os.ReadFile("../../testdata/branching/chain_loglik_reference.txt")
-	if err != nil {
-		t.Fatal(err)
-	}
-	cr := csv.NewReader(strings.NewReader(string(raw)))
-	cr.Comment = '#'
-	rows, err := cr.ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := readTestCSV(t, "chain_loglik_reference.txt")
 	n := 0
 	for _, row := range rows {
 		if row[0] == "R" { // the header

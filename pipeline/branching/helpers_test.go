@@ -157,23 +157,33 @@ func near(got, want, tol float64) bool {
 	return math.Abs(got-want) <= tol
 }
 
+// readTestCSV reads testdata/branching/NAME, skipping lines that start with '#'.
+func readTestCSV(tb testing.TB, name string) [][]string {
+	tb.Helper()
+	f, err := os.Open(filepath.Join("..", "..", "testdata", "branching", name))
+	if err != nil {
+		tb.Fatal(err)
+	}
+	defer f.Close()
+	cr := csv.NewReader(f)
+	cr.Comment = '#'
+	rows, err := cr.ReadAll()
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return rows
+}
+
 // nationalChains reads testdata/branching/national_chains.csv: the cluster sizes of issue
 // 8's simulated 1M-case file (19,000 clusters, 73 censored, the largest censored 21,729),
 // exported from that report's size histogram.
 func nationalChains(tb testing.TB) []ChainObservation {
 	tb.Helper()
-	f, err := os.Open("../../testdata/branching/national_chains.csv")
-	if err != nil {
-		tb.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		tb.Fatal(err)
-	}
+	rows := readTestCSV(tb, "national_chains.csv")
 	var obs []ChainObservation
 	for _, row := range rows[1:] {
 		var v [3]int
+		var err error
 		for i := range v {
 			if v[i], err = strconv.Atoi(row[i]); err != nil {
 				tb.Fatal(err)
