@@ -67,7 +67,7 @@ func lastOnset(ll *linelist.LineList) linelist.Day {
 }
 
 // BenchmarkIngestForest1M is target 1 of issue 8: linelist.ReadFile + forest.Build on the
-// 1M-row file, against the floor of bench/floor. It reports ns/row and the heap the result
+// 1M-row file, against the floor of cmd/floor. It reports ns/row and the heap the result
 // keeps per case (HeapAlloc after a GC with the line list and forest alive, less the heap
 // before the read).
 func BenchmarkIngestForest1M(b *testing.B) {

@@ -2,7 +2,7 @@ package branching
 
 import (
 	"fmt"
-	"github.com/caseweave/caseweave/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"

@@ -3,7 +3,7 @@ package offspring
 import (
 	"errors"
 	"fmt"
-	"github.com/caseweave/caseweave/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/big"
 	"math/bits"

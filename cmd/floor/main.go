@@ -2,7 +2,7 @@
 // encoding/csv pass over a line list that does nothing but index the case identifiers
 // (the first column) in a map, as any reader that links infectors must at least do.
 //
-//	go run ./bench/floor big.csv
+//	go run ./cmd/floor big.csv
 //
 // It prints the elapsed time, the number of data rows and the heap held by the index.
 package main

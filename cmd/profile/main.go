@@ -3,7 +3,7 @@
 // template) under runtime/pprof, and prints the time of each stage. It is the profile
 // behind BENCHMARKS.md:
 //
-//	go run ./bench/profile -as-of 2027-07-01 -cpuprofile cpu.pprof big.csv
+//	go run ./cmd/profile -as-of 2027-07-01 -cpuprofile cpu.pprof big.csv
 //	go tool pprof -top -cum cpu.pprof
 //
 // With -by-jurisdiction it then analyses and renders each jurisdiction on its own, as

@@ -2,7 +2,7 @@
 # compare-r.sh: time R's MASS::fitdistr (negative binomial) inside a boot() case bootstrap
 # against `caseweave estimate --bootstrap B` on the same offspring counts.
 #
-#   bash bench/compare-r.sh [LINELIST.csv] [AS_OF]
+#   bash cmd/compare-r.sh [LINELIST.csv] [AS_OF]
 #
 # Without arguments it simulates a line list (caseweave simulate, seed 1). caseweave reads
 # the line list; the R side gets the very offspring counts caseweave estimated from (the
