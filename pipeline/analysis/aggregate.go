@@ -1,6 +1,7 @@
 package analysis
 
 import (
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"sort"
 
@@ -259,7 +260,7 @@ func (a *run) strata() {
 			x := m[v]
 			st := Stratum{Column: col, Value: v, Cases: a.suppress(x.cases)}
 			if st.Cases != nil && x.counted >= a.o.SuppressBelow {
-				st.MeanOffspring = finite(float64(x.offspring) / float64(x.counted))
+				st.MeanOffspring = numeric.FinitePtr(float64(x.offspring) / float64(x.counted))
 			}
 			a.s.Strata = append(a.s.Strata, st)
 		}

@@ -3,6 +3,7 @@ package analysis
 import (
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"sort"
@@ -295,7 +296,7 @@ func (a *run) serialInterval() {
 		si.Models = append(si.Models, SerialModel{Name: m.Name, Mean: m.Mean, SD: m.SD, Params: m.Params, LogLik: m.LogLik, AIC: m.AIC})
 	}
 	if len(fit.MeanCI) == 2 {
-		si.MeanCI = [2]*float64{finite(fit.MeanCI[0]), finite(fit.MeanCI[1])}
+		si.MeanCI = [2]*float64{numeric.FinitePtr(fit.MeanCI[0]), numeric.FinitePtr(fit.MeanCI[1])}
 	}
 	si.Histogram, si.Density = serialViews(intervals, fit.Best)
 	a.s.SerialInterval = si
@@ -391,7 +392,7 @@ func (a *run) offspring() {
 	for i := range fits {
 		m := fits[i]
 		mf := ModelFit{Name: m.Name, R: m.R, K: m.K, LogLik: m.LogLik, AIC: m.AIC, DeltaAIC: m.AIC - bestAIC,
-			SE: SE{R: finite(m.SE.R), K: m.SE.K}}
+			SE: SE{R: numeric.FinitePtr(m.SE.R), K: m.SE.K}}
 		d := m.Distribution()
 		mf.Expected = make([]float64, len(o.Histogram))
 		for x := range mf.Expected {
@@ -438,7 +439,7 @@ func (a *run) offspring() {
 	if t.Values[0] != 0 {
 		o.ZeroShare = 0
 	}
-	o.ShareCausing80pctObserved = finite(offspring.ObservedShare(t, a.o.Share))
+	o.ShareCausing80pctObserved = numeric.FinitePtr(offspring.ObservedShare(t, a.o.Share))
 	o.SSEThreshold = offspring.SuperspreadingThreshold(a.fit.R)
 	var sse []int32
 	for _, i := range used {
@@ -485,12 +486,12 @@ func (a *run) clusterTablesOf(counts []int32, used []int32) []offspring.FreqTabl
 func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimate {
 	iv, err := a.boot.Interval(stat, est, a.o.Level)
 	if err != nil {
-		return Estimate{Estimate: finite(est)}
+		return Estimate{Estimate: numeric.FinitePtr(est)}
 	}
 	return Estimate{
-		Estimate:   finite(iv.Estimate),
-		Percentile: [2]*float64{finite(iv.Percentile[0]), finite(iv.Percentile[1])},
-		BCa:        [2]*float64{finite(iv.BCa[0]), finite(iv.BCa[1])},
+		Estimate:   numeric.FinitePtr(iv.Estimate),
+		Percentile: [2]*float64{numeric.FinitePtr(iv.Percentile[0]), numeric.FinitePtr(iv.Percentile[1])},
+		BCa:        [2]*float64{numeric.FinitePtr(iv.BCa[0]), numeric.FinitePtr(iv.BCa[1])},
 	}
 }
 
@@ -529,7 +530,7 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 			return out
 		}
 		out.IntervalMethod = "wald_log"
-		out.RCI = [2]*float64{finite(w.RLo), finite(w.RHi)}
+		out.RCI = [2]*float64{numeric.FinitePtr(w.RLo), numeric.FinitePtr(w.RHi)}
 		out.KCI = [2]*float64{w.KLo, w.KHi}
 		return out
 	}
@@ -539,7 +540,7 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 		return out
 	}
 	out.IntervalMethod, out.Replicates = "cluster_bootstrap", B
-	out.RCI = [2]*float64{finite(bs.RLo), finite(bs.RHi)}
+	out.RCI = [2]*float64{numeric.FinitePtr(bs.RLo), numeric.FinitePtr(bs.RHi)}
 	out.KCI = [2]*float64{bs.KLo, bs.KHi}
 	return out
 }
@@ -647,13 +648,6 @@ func (a *run) endOfOutbreak() {
 	a.s.EndOfOutbreak = e
 }
 
-func finite(x float64) *float64 {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return nil
-	}
-	return &x
-}
-
 // bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins
 // from the smallest value to the 99th percentile; larger values (k can run to thousands
 // in replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
@@ -724,7 +718,7 @@ func (a *run) weekly() {
 	}
 	for _, w := range res.Weeks {
 		a.s.TimeVarying = append(a.s.TimeVarying, WeekR{
-			WeekStart: w.WeekStart, Cases: w.Cases, R: w.R, Lower: finite(w.Lower), Upper: finite(w.Upper), Censored: w.Censored,
+			WeekStart: w.WeekStart, Cases: w.Cases, R: w.R, Lower: numeric.FinitePtr(w.Lower), Upper: numeric.FinitePtr(w.Upper), Censored: w.Censored,
 		})
 	}
 }

@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/cmplx"
 	"runtime"
@@ -114,22 +115,22 @@ func ChainSizes(d offspring.Distribution, maxSize int) (*ChainSizeDistribution, 
 		return nil, err
 	}
 	out := &ChainSizeDistribution{Extinction: q, Method: ChainMethodClosedForm, Mean: chainMean(d.Mean())}
-	var cum neumaier
+	var cum numeric.Sum
 	for y := 1; y <= maxSize; y++ {
 		p := math.Exp(logp(y))
 		out.PMF = append(out.PMF, p)
-		cum.add(p)
-		if q-cum.sum() < TrimMass {
+		cum.Add(p)
+		if q-cum.Value() < TrimMass {
 			break
 		}
 	}
-	out.TruncatedMass = math.Max(0, q-cum.sum())
+	out.TruncatedMass = math.Max(0, q-cum.Value())
 	return out, nil
 }
 
 func chainMean(R float64) *float64 {
 	if R < 1 {
-		return finitePtr(1 / (1 - R))
+		return numeric.FinitePtr(1 / (1 - R))
 	}
 	return nil
 }

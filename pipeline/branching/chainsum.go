@@ -1,6 +1,7 @@
 package branching
 
 import (
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 
 	"gonum.org/v1/gonum/integrate/quad"
@@ -69,8 +70,8 @@ func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
 		f := math.Exp(g0)
 		return -f*g1/24 + 7*f*(g1*g1*g1+3*g1*g2+g3)/5760
 	}
-	var s neumaier
-	s.add(-edge(lo))
+	var s numeric.Sum
+	s.Add(-edge(lo))
 	x := lo
 	for panels := 0; x < hi; panels++ {
 		if panels == maxPanels {
@@ -78,12 +79,12 @@ func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
 		}
 		gx, slope := slope(x)
 		if slope < 0 {
-			if rest := math.Exp(gx) / -slope; rest == 0 || rest < 1e-17*math.Abs(s.sum()) {
-				return s.sum() // negligible rest; the upper correction is negligible with it
+			if rest := math.Exp(gx) / -slope; rest == 0 || rest < 1e-17*math.Abs(s.Value()) {
+				return s.Value() // negligible rest; the upper correction is negligible with it
 			}
 		}
 		if !(x < maxSmoothArg) || math.IsNaN(slope) || math.IsInf(slope, 0) {
-			return s.sum() // beyond it log Γ has no significant digits left for a difference
+			return s.Value() // beyond it log Γ has no significant digits left for a difference
 		}
 		w := math.Min(x, hi-x)
 		if d := math.Abs(slope) * w; d > 12 {
@@ -91,7 +92,7 @@ func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
 		}
 		half, mid := w/2, x+w/2
 		for i, t := range glNodes {
-			s.add(half * glWeights[i] * math.Exp(g(mid+half*t)))
+			s.Add(half * glWeights[i] * math.Exp(g(mid+half*t)))
 		}
 		x += w
 		if hi-x < 1e-9*hi {
@@ -99,7 +100,7 @@ func eulerMaclaurin(g func(float64) float64, lo, hi float64) float64 {
 		}
 	}
 	if !math.IsInf(hi, 1) {
-		s.add(edge(hi))
+		s.Add(edge(hi))
 	}
-	return s.sum()
+	return s.Value()
 }

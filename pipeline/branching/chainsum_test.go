@@ -1,6 +1,7 @@
 package branching
 
 import (
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"strconv"
 	"testing"
@@ -8,11 +9,11 @@ import (
 
 // termSum is Σ_{j=a}^{b−1} e^{g(j)}, term by term: what smoothSum stands in for.
 func termSum(g func(float64) float64, a, b int) float64 {
-	var s neumaier
+	var s numeric.Sum
 	for j := a; j < b; j++ {
-		s.add(math.Exp(g(float64(j))))
+		s.Add(math.Exp(g(float64(j))))
 	}
-	return s.sum()
+	return s.Value()
 }
 
 // chainLogPMFs returns the chain-size log-probability of NB(R, k) (Borel for k = +Inf) at

@@ -3,6 +3,7 @@ package branching
 import (
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -99,13 +100,13 @@ func oneMinusPGFComplement(d offspring.Distribution, u float64) float64 {
 		return -math.Expm1(-m.K * math.Log1p(m.R/m.K*u))
 	case offspring.Empirical:
 		l := math.Log1p(-u)
-		var s neumaier
+		var s numeric.Sum
 		for x, p := range m.P {
 			if x > 0 && p > 0 {
-				s.add(-p * math.Expm1(float64(x)*l))
+				s.Add(-p * math.Expm1(float64(x)*l))
 			}
 		}
-		return s.sum()
+		return s.Value()
 	}
 	return 1 - d.PGF(1-u)
 }
@@ -122,28 +123,4 @@ func logPGF(d offspring.Distribution, s float64) float64 {
 		return -m.K * math.Log1p(m.R/m.K*(1-s))
 	}
 	return math.Log(d.PGF(s))
-}
-
-// neumaier is compensated summation [Neumaier 1974, ZAMM 54:39], so that 1 − Σ p_j over
-// hundreds of thousands of decoded probabilities keeps its small digits.
-type neumaier struct{ s, c float64 }
-
-func (n *neumaier) add(x float64) {
-	t := n.s + x
-	if math.Abs(n.s) >= math.Abs(x) {
-		n.c += (n.s - t) + x
-	} else {
-		n.c += (x - t) + n.s
-	}
-	n.s = t
-}
-
-func (n *neumaier) sum() float64 { return n.s + n.c }
-
-// finitePtr returns a pointer to v, or nil when v is not finite (JSON cannot carry it).
-func finitePtr(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
 }

@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/cmplx"
 	"runtime"
@@ -111,7 +112,7 @@ func GenerationSizes(d offspring.Distribution, active, generations int) ([]Gener
 		n := i + 1
 		m, v := GenerationMoments(R, s2, active, n)
 		out[i] = GenerationDistribution{
-			N: n, PZero: dec.pzero[i], Mean: finitePtr(m), Variance: finitePtr(v),
+			N: n, PZero: dec.pzero[i], Mean: numeric.FinitePtr(m), Variance: numeric.FinitePtr(v),
 			PMF: dec.pmf[i], Support: dec.support, FFTPoints: dec.points,
 			TruncatedMass: dec.truncated[i],
 		}
@@ -420,17 +421,17 @@ func decodeCircle(fft *fourier.CmplxFFT, vals []complex128, M int, digits float6
 	}
 	noise := 8 * math.Sqrt(ss/float64(M)) / float64(M)
 	p := make([]float64, J)
-	var sum neumaier
+	var sum numeric.Sum
 	for j := 0; j < J; j++ {
 		amp := math.Exp(-float64(j) * logR)
 		v := real(coef[j]) / float64(M) * amp
-		sum.add(v)
+		sum.Add(v)
 		if v < noise*amp {
 			v = 0
 		}
 		p[j] = math.Min(1, v)
 	}
-	return p, 1 - sum.sum()
+	return p, 1 - sum.Value()
 }
 
 // trimPMF drops the trailing entries of p whose total is below TrimMass and returns the
@@ -442,13 +443,13 @@ func trimPMF(p []float64, total float64) ([]float64, float64) {
 		tail += p[L-1]
 		L--
 	}
-	var s neumaier
+	var s numeric.Sum
 	for _, v := range p[:L] {
-		s.add(v)
+		s.Add(v)
 	}
 	out := make([]float64, L)
 	copy(out, p[:L])
-	return out, math.Min(total, math.Max(0, total-s.sum()))
+	return out, math.Min(total, math.Max(0, total-s.Value()))
 }
 
 // intPow is s^a for 0 ≤ s ≤ 1 and a ≥ 0.

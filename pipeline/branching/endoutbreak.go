@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"slices"
 
@@ -82,7 +83,8 @@ func EndOfOutbreak(onsets []int, d offspring.Distribution, F func(float64) float
 	res := &EndOfOutbreakResult{Cases: len(onsets), DistinctDays: len(days)}
 	for h := 0; h <= horizon; h++ {
 		t := from + h
-		var sum neumaier
+		var sum numeric.Sum
+		impossible := false // a factor G(F(t − t_i)) is 0, and so is the product
 		for i, day := range days {
 			lag := int64(t) - int64(day)
 			var v float64
@@ -95,13 +97,13 @@ func EndOfOutbreak(onsets []int, d offspring.Distribution, F func(float64) float
 				}
 			}
 			if math.IsInf(v, -1) {
-				sum = neumaier{s: math.Inf(-1)}
+				impossible = true
 				break
 			}
-			sum.add(float64(counts[i]) * v)
+			sum.Add(float64(counts[i]) * v)
 		}
 		p := 0.0
-		if s := sum.sum(); !math.IsInf(s, -1) && !math.IsNaN(s) {
+		if s := sum.Value(); !impossible && !math.IsInf(s, -1) && !math.IsNaN(s) {
 			p = math.Min(1, math.Exp(s))
 		}
 		res.Days = append(res.Days, t)

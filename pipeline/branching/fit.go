@@ -135,34 +135,34 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 		cum, seg    float64
 	}
 	var cens []censoredClass
-	var cum neumaier
+	var cum numeric.Sum
 	next := 1 // cum holds Σ_{j<next} P(Y = j)
 	for _, c := range t.classes {
 		if !c.censored {
 			ll += float64(c.count) * logp(c.size)
 			continue
 		}
-		var seg neumaier
+		var seg numeric.Sum
 		direct := c.size
 		if logpx != nil {
 			direct = min(c.size, t.sumFrom)
 		}
 		for ; next < direct; next++ {
-			seg.add(math.Exp(logp(next)))
+			seg.Add(math.Exp(logp(next)))
 		}
 		if next < c.size {
-			seg.add(smoothSum(logpx, next, c.size))
+			seg.Add(smoothSum(logpx, next, c.size))
 			next = c.size
 		}
-		cum.add(seg.sum())
-		cens = append(cens, censoredClass{size: c.size, count: c.count, cum: cum.sum(), seg: seg.sum()})
+		cum.Add(seg.Value())
+		cens = append(cens, censoredClass{size: c.size, count: c.count, cum: cum.Value(), seg: seg.Value()})
 	}
 	// P(Y ≥ y_i) = 1 − cum_i loses digits as it shrinks. For R < 1 (every chain finite) it is
 	// also T_i = Σ_{j≥y_i} P(Y = j) = T_m + Σ_{l>i} seg_l, summed from the top without
 	// cancellation: used once 1 − cum_i is below smallTail. T_m is summed directly.
 	const smallTail = 1e-4
 	top := math.NaN()
-	var above neumaier // Σ_{l>i} seg_l
+	var above numeric.Sum // Σ_{l>i} seg_l
 	for i := len(cens) - 1; i >= 0; i-- {
 		c := cens[i]
 		tail := 1 - c.cum
@@ -170,9 +170,9 @@ func chainLogLik(t *chainTable, R, k float64) float64 {
 			if math.IsNaN(top) {
 				top = directTail(logp, logpx, cens[len(cens)-1].size, t.sumFrom)
 			}
-			tail = top + above.sum()
+			tail = top + above.Value()
 		}
-		above.add(c.seg)
+		above.Add(c.seg)
 		ll += float64(c.count) * math.Log(math.Max(tail, math.SmallestNonzeroFloat64))
 	}
 	return ll
@@ -185,19 +185,19 @@ func directTail(logp func(int) float64, logpx func(float64) float64, y, sumFrom 
 	if logpx != nil && y >= sumFrom {
 		return smoothTail(logpx, y)
 	}
-	var s neumaier
+	var s numeric.Sum
 	for j := y; j < y+1_000_000; j++ {
 		if logpx != nil && j >= sumFrom {
-			s.add(smoothTail(logpx, j))
+			s.Add(smoothTail(logpx, j))
 			break
 		}
 		p := math.Exp(logp(j))
-		s.add(p)
-		if p < 1e-17*s.sum() || p == 0 {
+		s.Add(p)
+		if p < 1e-17*s.Value() || p == 0 {
 			break
 		}
 	}
-	return s.sum()
+	return s.Value()
 }
 
 // chainLogPMFs returns the chain-size log-probability of NB(R, k), or Borel for k = +Inf
@@ -305,7 +305,7 @@ func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 	for _, st := range nbStarts {
 		runs = append(runs, &search{x0: []float64{math.Log(st[0]), math.Log(st[1])}, step: 0.5, maxIter: 4000})
 	}
-	do := func(sr *search) { sr.x, sr.v = nelderMead(nll, sr.x0, sr.step, ftol, 1e-7, sr.maxIter) }
+	do := func(sr *search) { sr.x, sr.v = numeric.NelderMead(nll, sr.x0, sr.step, ftol, 1e-7, sr.maxIter) }
 	if starts == nil {
 		var wg sync.WaitGroup
 		for _, sr := range runs {
@@ -332,7 +332,7 @@ func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 		return nil, fmt.Errorf("branching: the Borel chain-size fit failed")
 	}
 	// One more negative-binomial search from the Poisson limit at the Borel optimum.
-	if x, v := nelderMead(nll, []float64{math.Log(rB), math.Log(poissonLimitK)}, 0.5, ftol, 1e-7, 4000); v < bestN {
+	if x, v := numeric.NelderMead(nll, []float64{math.Log(rB), math.Log(poissonLimitK)}, 0.5, ftol, 1e-7, 4000); v < bestN {
 		bestN, rN, kN = v, math.Exp(x[0]), math.Exp(x[1])
 	}
 	if kN >= poissonLimitK || math.IsInf(bestN, 1) || bestB-bestN < poissonLimitGain {
@@ -473,8 +473,8 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 	sort.Float64s(rs)
 	sort.Float64s(ks)
 	lo, hi := (1-level)/2, (1+level)/2
-	out.RLo, out.RHi = quantileSorted(rs, lo), quantileSorted(rs, hi)
-	out.KLo, out.KHi = finitePtr(quantileSorted(ks, lo)), finitePtr(quantileSorted(ks, hi))
+	out.RLo, out.RHi = numeric.Quantile7(rs, lo), numeric.Quantile7(rs, hi)
+	out.KLo, out.KHi = numeric.FinitePtr(numeric.Quantile7(ks, lo)), numeric.FinitePtr(numeric.Quantile7(ks, hi))
 	return out, nil
 }
 

@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -119,11 +120,11 @@ func capPMF(p []float64, trunc, total float64) ([]float64, float64) {
 	if len(p) <= OutlookMaxPMFLength {
 		return p, trunc
 	}
-	var s neumaier
+	var s numeric.Sum
 	for _, v := range p[:OutlookMaxPMFLength] {
-		s.add(v)
+		s.Add(v)
 	}
-	return p[:OutlookMaxPMFLength], math.Min(total, math.Max(0, total-s.sum()))
+	return p[:OutlookMaxPMFLength], math.Min(total, math.Max(0, total-s.Value()))
 }
 
 // checkFinite guards the JSON encoder, which rejects NaN and ±Inf.

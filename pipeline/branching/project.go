@@ -2,7 +2,7 @@ package branching
 
 import (
 	"fmt"
-	"math"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
 )
@@ -65,7 +65,7 @@ func Project(replicates []offspring.Distribution, active, generations int) (*Pro
 		}
 		pmf := dec.pmf[i]
 		out.Generations = append(out.Generations, ProjectedGeneration{
-			N: n, PZero: dec.pzero[i], Mean: finitePtr(mean), PMF: pmf,
+			N: n, PZero: dec.pzero[i], Mean: numeric.FinitePtr(mean), PMF: pmf,
 			Interval50: centralInterval(pmf, 0.5), Interval90: centralInterval(pmf, 0.9),
 			Support: dec.support, TruncatedMass: dec.truncated[i],
 		})
@@ -85,37 +85,13 @@ func centralInterval(pmf []float64, level float64) PredictionInterval {
 // quantile is the smallest j with Σ_{i≤j} pmf_i ≥ p (a 1e−12 slack absorbs round-off in the
 // decoded values), or nil when the listed mass never reaches p.
 func quantile(pmf []float64, p float64) *int {
-	var cum neumaier
+	var cum numeric.Sum
 	for j, v := range pmf {
-		cum.add(v)
-		if cum.sum() >= p-1e-12 {
+		cum.Add(v)
+		if cum.Value() >= p-1e-12 {
 			jj := j
 			return &jj
 		}
 	}
 	return nil
-}
-
-// quantileSorted is used by the bootstrap percentile intervals: the value at probability p of
-// sorted values by linear interpolation between order statistics (Hyndman & Fan 1996,
-// type 7, R's default); +Inf entries propagate.
-func quantileSorted(sorted []float64, p float64) float64 {
-	n := len(sorted)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := float64(n-1) * p
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return sorted[n-1]
-	}
-	frac := h - float64(lo)
-	if frac == 0 {
-		return sorted[lo]
-	}
-	a, b := sorted[lo], sorted[lo+1]
-	if math.IsInf(b, 1) {
-		return b
-	}
-	return a + frac*(b-a)
 }

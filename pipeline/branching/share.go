@@ -2,6 +2,7 @@ package branching
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -52,7 +53,7 @@ func ShareByNu(d offspring.Distribution, target float64) (*float64, error) {
 		return nil, fmt.Errorf("branching: incomplete-gamma inverse failed for k = %g, target %g", k, target)
 	}
 	share := mathext.GammaIncRegComp(k, t)
-	return finitePtr(share), nil
+	return numeric.FinitePtr(share), nil
 }
 
 // ShareByOffspring is the smallest share of cases, ranked by realised offspring count, that
@@ -78,19 +79,19 @@ func ShareByOffspring(d offspring.Distribution, target float64) (*float64, error
 			weights = append(weights, p)
 		}
 	} else {
-		var cum neumaier
+		var cum numeric.Sum
 		for x := 0; x < maxShareSupport; x++ {
 			p := d.PMF(x)
 			values = append(values, x)
 			weights = append(weights, p)
-			cum.add(p)
+			cum.Add(p)
 			// Stop past the mean once the tail left is negligible.
-			if float64(x) > d.Mean() && 1-cum.sum() < 1e-12 {
+			if float64(x) > d.Mean() && 1-cum.Value() < 1e-12 {
 				break
 			}
 		}
 	}
-	return finitePtr(offspring.ConcentrationShare(values, weights, target)), nil
+	return numeric.FinitePtr(offspring.ConcentrationShare(values, weights, target)), nil
 }
 
 // SuperspreadingThreshold is offspring.SuperspreadingThreshold(R): the 99th percentile of

@@ -25,24 +25,6 @@ func BenchmarkFitNegBin(b *testing.B) {
 	}
 }
 
-func BenchmarkMultinomial1M(b *testing.B) {
-	t := benchTable(b)
-	cond := conditionalShares(t.Counts)
-	out := make([]int, len(t.Counts))
-	rng := rand.New(rand.NewPCG(2, 2))
-	n := t.N()
-	for b.Loop() {
-		multinomialInto(rng, n, cond, out)
-	}
-}
-
-func BenchmarkBinomialBTPE(b *testing.B) {
-	rng := rand.New(rand.NewPCG(3, 3))
-	for b.Loop() {
-		binomial(rng, 1_000_000, 0.3)
-	}
-}
-
 // BenchmarkFitBootstrap1M is the performance target: NB fit + 10,000 case-bootstrap
 // replicates + BCa intervals for R and k on 1,000,000 cases.
 func BenchmarkFitBootstrap1M(b *testing.B) {

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -27,7 +28,7 @@ func (p Params) MarshalJSON() ([]byte, error) {
 	return json.Marshal(struct {
 		R float64  `json:"R"`
 		K *float64 `json:"k"`
-	}{p.R, finitePtr(p.K)})
+	}{p.R, numeric.FinitePtr(p.K)})
 }
 
 // StatR and StatK extract R and k from a Params, for BootstrapResult.Interval.
@@ -142,7 +143,7 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 				}
 				end := min(start+replicateChunk, B)
 				for b := start; b < end; b++ {
-					s1, s2 := streamSeeds(opts.Seed, b)
+					s1, s2 := numeric.StreamSeeds(opts.Seed, b)
 					pcg.Seed(s1, s2)
 					res.Replicates[b] = plan.replicate(rng, scratch)
 				}
@@ -167,12 +168,6 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 		}
 	}
 	return res, nil
-}
-
-// streamSeeds derives the PCG seed words of replicate b (see streamRand).
-func streamSeeds(seed uint64, b int) (uint64, uint64) {
-	s := seed ^ (uint64(b)+1)*0x9e3779b97f4a7c15
-	return splitMix64(&s), splitMix64(&s)
 }
 
 // fitParams is the (R, k) fit used inside the bootstrap: K = +Inf in the Poisson limit,
@@ -214,14 +209,14 @@ func newCasePlan(t FreqTable) (*casePlan, error) {
 	if _, _, _, err := checkTable(t); err != nil {
 		return nil, fmt.Errorf("bootstrap: %w", err)
 	}
-	return &casePlan{t: t, n: t.N(), cond: conditionalShares(t.Counts)}, nil
+	return &casePlan{t: t, n: t.N(), cond: numeric.ConditionalShares(t.Counts)}, nil
 }
 
 func (p *casePlan) method() string    { return CaseResampling }
 func (p *casePlan) estimate() Params  { return fitParams(p.t.Values, p.t.Counts) }
 func (p *casePlan) newScratch() []int { return make([]int, len(p.t.Values)) }
 func (p *casePlan) replicate(rng *rand.Rand, counts []int) Params {
-	multinomialInto(rng, p.n, p.cond, counts)
+	numeric.Multinomial(rng, p.n, p.cond, counts)
 	return fitParams(p.t.Values, counts)
 }
 
@@ -338,7 +333,7 @@ type Interval struct {
 
 // MarshalJSON writes infinite bounds and non-finite numbers as null.
 func (iv Interval) MarshalJSON() ([]byte, error) {
-	pair := func(a [2]float64) [2]*float64 { return [2]*float64{finitePtr(a[0]), finitePtr(a[1])} }
+	pair := func(a [2]float64) [2]*float64 { return [2]*float64{numeric.FinitePtr(a[0]), numeric.FinitePtr(a[1])} }
 	return json.Marshal(struct {
 		Estimate     *float64    `json:"estimate"`
 		Level        float64     `json:"level"`
@@ -349,15 +344,8 @@ func (iv Interval) MarshalJSON() ([]byte, error) {
 		Bias         *float64    `json:"bias_z0"`
 		Acceleration *float64    `json:"acceleration"`
 		Dropped      int         `json:"dropped"`
-	}{finitePtr(iv.Estimate), iv.Level, pair(iv.Percentile), pair(iv.BCa), iv.BCaFallback,
-		iv.Note, finitePtr(iv.Bias), finitePtr(iv.Acceleration), iv.Dropped})
-}
-
-func finitePtr(x float64) *float64 {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return nil
-	}
-	return &x
+	}{numeric.FinitePtr(iv.Estimate), iv.Level, pair(iv.Percentile), pair(iv.BCa), iv.BCaFallback,
+		iv.Note, numeric.FinitePtr(iv.Bias), numeric.FinitePtr(iv.Acceleration), iv.Dropped})
 }
 
 // Interval computes the percentile and BCa intervals at the given level (e.g. 0.95) for

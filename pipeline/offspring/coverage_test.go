@@ -2,6 +2,7 @@ package offspring
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"os"
 	"runtime"
@@ -44,7 +45,7 @@ func runCoverage(t *testing.T, sc coverageScenario, seed uint64) coverageCounts 
 		go func(d int) {
 			defer wg.Done()
 			defer func() { <-sem }()
-			tab, err := SimulateNegBin(streamRand(seed, d), sc.R, sc.K, sc.Cases)
+			tab, err := SimulateNegBin(numeric.StreamRand(seed, d), sc.R, sc.K, sc.Cases)
 			var res *BootstrapResult
 			if err == nil {
 				res, err = Bootstrap(Sample{Cases: tab}, BootstrapOptions{Replicates: sc.B, Seed: uint64(d), Workers: 1})

@@ -1,6 +1,7 @@
 package timing
 
 import (
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -52,12 +53,12 @@ func TestFitExtremesNoPanic(t *testing.T) {
 			continue
 		}
 		for _, m := range fit.Models {
-			if !finite(m.Mean) || !finite(m.SD) || !finite(m.LogLik) || !finite(m.AIC) {
+			if !numeric.IsFinite(m.Mean) || !numeric.IsFinite(m.SD) || !numeric.IsFinite(m.LogLik) || !numeric.IsFinite(m.AIC) {
 				t.Errorf("%v %s: non-finite %+v", x, m.Name, m)
 			}
 		}
 		q := fit.Quantiles
-		if !finite(q.P50) || !finite(q.P95) || !finite(q.P99) {
+		if !numeric.IsFinite(q.P50) || !numeric.IsFinite(q.P95) || !numeric.IsFinite(q.P99) {
 			t.Errorf("%v: quantiles %+v", x, q)
 		}
 	}

@@ -2,14 +2,13 @@ package timing
 
 import (
 	"fmt"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"runtime"
 	"slices"
 	"sort"
 	"sync"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // NegativeTreatment is how FitSerialInterval treats negative intervals, as reported in the
@@ -172,8 +171,10 @@ func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
 		}
 		if len(means) > 0 {
 			a := (1 - level) / 2
-			out.MeanCI = []float64{quantile7(means, a), quantile7(means, 1-a)}
-			out.P95CI = []float64{quantile7(p95s, a), quantile7(p95s, 1-a)}
+			slices.Sort(means)
+			slices.Sort(p95s)
+			out.MeanCI = []float64{numeric.Quantile7(means, a), numeric.Quantile7(means, 1-a)}
+			out.P95CI = []float64{numeric.Quantile7(p95s, a), numeric.Quantile7(p95s, 1-a)}
 		}
 	}
 	return out, nil
@@ -420,141 +421,32 @@ func fitFamily(fam family, tab intervalTable, start [2]float64) (ModelFit, [2]fl
 			mf.AtBound = true
 		}
 	}
-	if !finite(mf.Mean) || !finite(mf.SD) || !finite(mf.LogLik) || ll <= impossiblePenalty {
+	if !numeric.IsFinite(mf.Mean) || !numeric.IsFinite(mf.SD) || !numeric.IsFinite(mf.LogLik) || ll <= impossiblePenalty {
 		return ModelFit{}, th, fmt.Errorf("serial interval: %s fit did not reach a finite optimum", fam.name)
 	}
 	return mf, th, nil
 }
 
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
-
-// minimise runs Nelder–Mead from start, then Newton polishing, and returns the optimum
-// clamped into the box.
+// minimise runs Nelder–Mead from start, then Newton steps to pin the parameters down to the
+// precision the reference comparison needs (Nelder–Mead stops on function changes), and
+// returns the optimum clamped into the box.
 func minimise(fam family, tab intervalTable, start [2]float64) [2]float64 {
 	start, _ = clampBox(fam, start)
-	f := func(x [2]float64) float64 { return objective(fam, tab, x) }
-	th := nelderMead(f, start, 0.1, 1e-12, 2000)
-	th = newtonPolish(fam, tab, th)
-	th, _ = clampBox(fam, th)
+	f := objectiveOf(fam, tab)
+	x, _ := numeric.NelderMead(f, start[:], 0.1, 1e-12, math.Inf(1), 2000)
+	x, _, _ = numeric.NewtonMin(f, x, newtonStep, 30)
+	th, _ := clampBox(fam, [2]float64(x))
 	return th
 }
 
-// nelderMead minimises f on ℝ² with the standard coefficients (reflection 1, expansion 2,
-// contraction 1/2, shrink 1/2) [Nelder & Mead 1965, Comput J 7:308; Lagarias et al. 1998,
-// SIAM J Optim 9:112]. It stops when the simplex's function values agree to ftol
-// (absolute plus relative) or after maxIter iterations. Written here rather than taken
-// from gonum/optimize because that package pulls in golang.org/x/tools, which the module
-// does not carry.
-func nelderMead(f func([2]float64) float64, x0 [2]float64, step, ftol float64, maxIter int) [2]float64 {
-	var x [3][2]float64
-	var fx [3]float64
-	x[0] = x0
-	x[1] = [2]float64{x0[0] + step, x0[1]}
-	x[2] = [2]float64{x0[0], x0[1] + step}
-	for i := range x {
-		fx[i] = f(x[i])
-	}
-	lin := func(a, b [2]float64, t float64) [2]float64 { // a + t(b − a)
-		return [2]float64{a[0] + t*(b[0]-a[0]), a[1] + t*(b[1]-a[1])}
-	}
-	for iter := 0; iter < maxIter; iter++ {
-		// Order: x[0] best, x[2] worst.
-		for i := 1; i < 3; i++ {
-			for j := i; j > 0 && fx[j] < fx[j-1]; j-- {
-				x[j], x[j-1] = x[j-1], x[j]
-				fx[j], fx[j-1] = fx[j-1], fx[j]
-			}
-		}
-		if math.Abs(fx[2]-fx[0]) <= ftol*(1+math.Abs(fx[0])) {
-			break
-		}
-		c := [2]float64{(x[0][0] + x[1][0]) / 2, (x[0][1] + x[1][1]) / 2}
-		xr := lin(c, x[2], -1)
-		fr := f(xr)
-		switch {
-		case fr < fx[0]:
-			xe := lin(c, x[2], -2)
-			if fe := f(xe); fe < fr {
-				x[2], fx[2] = xe, fe
-			} else {
-				x[2], fx[2] = xr, fr
-			}
-		case fr < fx[1]:
-			x[2], fx[2] = xr, fr
-		default:
-			var xc [2]float64
-			if fr < fx[2] {
-				xc = lin(c, xr, 0.5) // outside contraction
-			} else {
-				xc = lin(c, x[2], 0.5) // inside contraction
-			}
-			if fc := f(xc); fc < math.Min(fr, fx[2]) {
-				x[2], fx[2] = xc, fc
-				continue
-			}
-			for i := 1; i < 3; i++ { // shrink towards the best vertex
-				x[i] = lin(x[0], x[i], 0.5)
-				fx[i] = f(x[i])
-			}
-		}
-	}
-	best := 0
-	for i := range fx {
-		if fx[i] < fx[best] {
-			best = i
-		}
-	}
-	return x[best]
+// objectiveOf is objective as a function of a parameter slice, for the optimisers.
+func objectiveOf(fam family, tab intervalTable) func([]float64) float64 {
+	return func(x []float64) float64 { return objective(fam, tab, [2]float64(x)) }
 }
 
-// newtonPolish takes Newton steps with a central-difference gradient and Hessian, with
-// step halving, until the step is negligible. Nelder–Mead stops on function changes;
-// this pins the parameters down to the precision the reference comparison needs.
-func newtonPolish(fam family, tab intervalTable, th [2]float64) [2]float64 {
-	f := func(x [2]float64) float64 { return objective(fam, tab, x) }
-	const h = 1e-4
-	f0 := f(th)
-	for iter := 0; iter < 30; iter++ {
-		var g [2]float64
-		var hs [2][2]float64
-		for i := 0; i < 2; i++ {
-			p, m := th, th
-			p[i] += h
-			m[i] -= h
-			fp, fm := f(p), f(m)
-			g[i] = (fp - fm) / (2 * h)
-			hs[i][i] = (fp - 2*f0 + fm) / (h * h)
-		}
-		pp, pm, mp, mm := th, th, th, th
-		pp[0], pp[1] = th[0]+h, th[1]+h
-		pm[0], pm[1] = th[0]+h, th[1]-h
-		mp[0], mp[1] = th[0]-h, th[1]+h
-		mm[0], mm[1] = th[0]-h, th[1]-h
-		hs[0][1] = (f(pp) - f(pm) - f(mp) + f(mm)) / (4 * h * h)
-		hs[1][0] = hs[0][1]
-		det := hs[0][0]*hs[1][1] - hs[0][1]*hs[1][0]
-		if !(hs[0][0] > 0 && det > 0) || !finite(det) {
-			return th
-		}
-		step := [2]float64{
-			-(hs[1][1]*g[0] - hs[0][1]*g[1]) / det,
-			-(-hs[1][0]*g[0] + hs[0][0]*g[1]) / det,
-		}
-		improved := false
-		for half := 0; half < 30; half++ {
-			cand := [2]float64{th[0] + step[0], th[1] + step[1]}
-			if fc := f(cand); fc <= f0 {
-				th, f0, improved = cand, fc, true
-				break
-			}
-			step[0], step[1] = step[0]/2, step[1]/2
-		}
-		if !improved || math.Max(math.Abs(step[0]), math.Abs(step[1])) < 1e-11 {
-			return th
-		}
-	}
-	return th
-}
+// newtonStep is the finite-difference step of the Newton refinements on the log-parameter
+// scale.
+const newtonStep = 1e-4
 
 // bootstrapFits refits fam to B case-bootstrap replicates of tab. Replicate b draws from
 // its own PCG stream seeded from rng before any work starts, so results do not depend on
@@ -571,6 +463,7 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 	mean := make([]float64, b)
 	p95 := make([]float64, b)
 	ok := make([]bool, b)
+	cond := numeric.ConditionalShares(tab.counts)
 	var wg sync.WaitGroup
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
@@ -579,19 +472,20 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 			counts := make([]int, len(tab.counts))
 			for i := w; i < b; i += workers {
 				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))
-				multinomialResample(r, tab, counts)
+				numeric.Multinomial(r, tab.n, cond, counts)
 				rep := intervalTable{values: tab.values, counts: counts, n: tab.n}
 				// A replicate's optimum lies near the full-data one, where Newton steps with
 				// backtracking converge in a few iterations; the full Nelder–Mead search is
 				// the fallback when Newton cannot move (curvature not positive there).
-				th := newtonPolish(fam, rep, start)
+				x, _, _ := numeric.NewtonMin(objectiveOf(fam, rep), start[:], newtonStep, 30)
+				th := [2]float64(x)
 				if th == start {
 					th = minimise(fam, rep, start)
 				}
 				th, _ = clampBox(fam, th)
 				si := fam.build(th)
 				mean[i], p95[i] = si.Mean(), si.Quantile(0.95)
-				ok[i] = finite(mean[i]) && finite(p95[i])
+				ok[i] = numeric.IsFinite(mean[i]) && numeric.IsFinite(p95[i])
 			}
 		}(w)
 	}
@@ -605,37 +499,4 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 		}
 	}
 	return means, p95s, failed
-}
-
-// multinomialResample draws counts ~ Multinomial(n, counts/n) by conditional binomials:
-// resampling n intervals with replacement, in O(distinct intervals) (DOMAIN.md §6).
-func multinomialResample(r *rand.Rand, tab intervalTable, dst []int) {
-	rem, remMass := tab.n, tab.n
-	for i, c := range tab.counts {
-		switch {
-		case rem == 0:
-			dst[i] = 0
-		case c >= remMass:
-			dst[i] = rem
-		default:
-			p := float64(c) / float64(remMass)
-			dst[i] = int(distuv.Binomial{N: float64(rem), P: p, Src: r}.Rand())
-		}
-		rem -= dst[i]
-		remMass -= c
-	}
-}
-
-// quantile7 is the linear-interpolation sample quantile, type 7 of Hyndman & Fan 1996
-// (Am Stat 50:361), R's default. It sorts a copy of xs.
-func quantile7(xs []float64, p float64) float64 {
-	s := slices.Clone(xs)
-	slices.Sort(s)
-	h := float64(len(s)-1) * p
-	lo := math.Floor(h)
-	i := int(lo)
-	if i+1 >= len(s) {
-		return s[len(s)-1]
-	}
-	return s[i] + (h-lo)*(s[i+1]-s[i])
 }

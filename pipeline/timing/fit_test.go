@@ -2,6 +2,7 @@ package timing
 
 import (
 	"errors"
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"sort"
@@ -225,11 +226,11 @@ func TestDegenerateIntervals(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if fit.MeanCI == nil || !finite(fit.MeanCI[0]) || !finite(fit.MeanCI[1]) {
+	if fit.MeanCI == nil || !numeric.IsFinite(fit.MeanCI[0]) || !numeric.IsFinite(fit.MeanCI[1]) {
 		t.Errorf("degenerate bootstrap CI %v", fit.MeanCI)
 	}
 	for _, m := range fit.Models {
-		if !finite(m.Mean) || !finite(m.SD) || !finite(m.LogLik) || !finite(m.AIC) {
+		if !numeric.IsFinite(m.Mean) || !numeric.IsFinite(m.SD) || !numeric.IsFinite(m.LogLik) || !numeric.IsFinite(m.AIC) {
 			t.Errorf("%s not finite: %+v", m.Name, m)
 		}
 		// Saturated bound: the log-likelihood cannot exceed 0 (all mass in one bin).

@@ -1,5 +1,3 @@
-// Package numeric holds the small numerical routines that several pipeline stages share and
-// gonum does not export: a bracketed scalar root finder.
 package numeric
 
 import (

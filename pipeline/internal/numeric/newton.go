@@ -32,8 +32,8 @@ func NewtonMin(f func([]float64) float64, x0 []float64, h float64, maxIter int) 
 			g[i] = (fp - fm) / (2 * h)
 			H[i][i] = (fp - 2*fx + fm) / (h * h)
 			for j := 0; j < i; j++ {
-				H[i][j] = (at(map[int]float64{i: h, j: h}) - at(map[int]float64{i: h, j: -h}) -
-					at(map[int]float64{i: -h, j: h}) + at(map[int]float64{i: -h, j: -h})) / (4 * h * h)
+				H[i][j] = (at(map[int]float64{j: h, i: h}) - at(map[int]float64{j: h, i: -h}) -
+					at(map[int]float64{j: -h, i: h}) + at(map[int]float64{j: -h, i: -h})) / (4 * h * h)
 				H[j][i] = H[i][j]
 			}
 		}
