@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
-	"math/rand/v2"
 	"runtime"
 	"sort"
 	"sync"
@@ -368,17 +367,6 @@ type ChainBootstrap struct {
 	K []float64 `json:"-"`
 }
 
-// replicateRand returns the PCG stream of bootstrap replicate b: seeded by (seed,
-// splitmix64(b)), so each replicate's draws depend only on (seed, b), never on which worker
-// ran it (splitmix64 scrambles consecutive b; Steele, Lea & Flood 2014).
-func replicateRand(seed uint64, b int) *rand.Rand {
-	z := uint64(b) + 0x9e3779b97f4a7c15
-	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9
-	z = (z ^ (z >> 27)) * 0x94d049bb133111eb
-	z ^= z >> 31
-	return rand.New(rand.NewPCG(seed, z))
-}
-
 // BootstrapChainFit refits the chain-size model to B cluster-bootstrap resamples (whole
 // clusters drawn with replacement, which respects dependence within chains; DOMAIN.md §6)
 // and returns percentile intervals at `level` [Efron & Tibshirani 1993, ch. 13] using
@@ -424,7 +412,7 @@ func BootstrapChainFit(obs []ChainObservation, B int, level float64, seed uint64
 			defer wg.Done()
 			sample := make([]ChainObservation, len(obs))
 			for b := range jobs {
-				rng := replicateRand(seed, b)
+				rng := numeric.StreamRand(seed, b)
 				for i := range sample {
 					sample[i] = obs[rng.IntN(len(obs))]
 				}

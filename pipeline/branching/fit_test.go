@@ -1,6 +1,7 @@
 package branching
 
 import (
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"reflect"
@@ -240,7 +241,7 @@ func TestNewtonRefitMatchesFullSearch(t *testing.T) {
 		t.Fatal(err)
 	}
 	for b := 0; b < 5; b++ {
-		rng := replicateRand(1, b)
+		rng := numeric.StreamRand(1, b)
 		sample := make([]ChainObservation, len(obs))
 		for i := range sample {
 			sample[i] = obs[rng.IntN(len(obs))]
