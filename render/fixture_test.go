@@ -144,9 +144,10 @@ func fixtureSummary() *analysis.Summary {
 		Offspring: &analysis.Offspring{
 			N: n, Censored: 57, CensorDays: 12, Mean: 0.80, Variance: 2.31, Histogram: hist,
 			Models: []analysis.ModelFit{
-				{Name: "negative binomial", R: 0.80, K: fp(0.42), LogLik: -341.2, AIC: 686.4, DeltaAIC: 0, SE: analysis.SE{R: fp(0.07), K: fp(0.06)}, Expected: nb},
-				{Name: "geometric", R: 0.80, LogLik: -352.9, AIC: 707.8, DeltaAIC: 21.4, SE: analysis.SE{R: fp(0.06)}, Expected: ge},
-				{Name: "Poisson", R: 0.80, LogLik: -410.5, AIC: 823.0, DeltaAIC: 136.6, SE: analysis.SE{R: fp(0.05)}, Expected: po},
+				{Name: "negative binomial", Parameters: []analysis.Parameter{{Name: "R", Estimate: fp(0.80), SE: fp(0.07)}, {Name: "k", Estimate: fp(0.42), SE: fp(0.06)}},
+					LogLik: -341.2, AIC: 686.4, DeltaAIC: 0, Expected: nb},
+				{Name: "geometric", Parameters: []analysis.Parameter{{Name: "R", Estimate: fp(0.80), SE: fp(0.06)}}, LogLik: -352.9, AIC: 707.8, DeltaAIC: 21.4, Expected: ge},
+				{Name: "Poisson", Parameters: []analysis.Parameter{{Name: "R", Estimate: fp(0.80), SE: fp(0.05)}}, LogLik: -410.5, AIC: 823.0, DeltaAIC: 136.6, Expected: po},
 			},
 			BestModel: "negative binomial",
 			R:         est(0.80, 0.70, 0.91, 0.71, 0.92),

@@ -192,17 +192,24 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 	fmt.Fprintf(w, "\nOffspring counts of %d cases (%d left out as censored): mean %.3f, variance %.3f\n", o.N, o.Censored, o.Mean, o.Variance)
 	fmt.Fprintf(w, "\n  %-18s %8s %8s %12s %10s %8s\n", "model", "R", "k", "log-lik", "AIC", "ΔAIC")
 	for _, m := range o.Models {
-		k := "–"
-		if m.K != nil {
-			k = strconv.FormatFloat(*m.K, 'f', 3, 64)
-		} else if m.Name == "negative_binomial" {
-			k = "∞"
+		R, k := "–", "–"
+		for _, p := range m.Parameters {
+			v := "∞" // an unbounded estimate: k in the Poisson limit
+			if p.Estimate != nil {
+				v = strconv.FormatFloat(*p.Estimate, 'f', 3, 64)
+			}
+			switch p.Name {
+			case "R":
+				R = v
+			case "k":
+				k = v
+			}
 		}
 		best := ""
 		if m.Name == o.BestModel {
 			best = "  best"
 		}
-		fmt.Fprintf(w, "  %-18s %8.3f %8s %12.3f %10.3f %8.3f%s\n", m.Name, m.R, k, m.LogLik, m.AIC, m.DeltaAIC, best)
+		fmt.Fprintf(w, "  %-18s %8s %8s %12.3f %10.3f %8.3f%s\n", m.Name, R, k, m.LogLik, m.AIC, m.DeltaAIC, best)
 	}
 	lvl := fmt.Sprintf("%g%%", 100*st.Level)
 	fmt.Fprintf(w, "\n%s intervals, %s bootstrap of %d %ss (seed %d):\n", lvl, st.Interval, st.Replicates, st.Unit, s.Seed)

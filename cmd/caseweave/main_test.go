@@ -185,3 +185,32 @@ func TestOutlookUsage(t *testing.T) {
 		}
 	}
 }
+
+// The outlook JSON names the model and its dispersion: k of a gamma-distributed ν (1 for the
+// geometric, which is the negative binomial with k = 1), null for a list, which has no ν.
+func TestOutlookJSONModel(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		name string
+		k    any
+	}{
+		{[]string{"--model", "geometric", "--R", "0.8"}, "geometric", 1.0},
+		{[]string{"--model", "negbin", "--R", "2.5", "--k", "0.1"}, "negative_binomial", 0.1},
+		{[]string{"--model", "poisson", "--R", "1.5"}, "poisson", nil},
+		{[]string{"--pmf", "0.3,0.3,0.2,0.2"}, "empirical", nil},
+	} {
+		code, stdout, stderr := cli(t, append(append([]string{"outlook"}, c.args...), "--json", "-")...)
+		if code != 0 {
+			t.Fatal(stderr)
+		}
+		var doc struct {
+			Model map[string]any `json:"model"`
+		}
+		if err := json.Unmarshal([]byte(stdout[strings.Index(stdout, "{"):]), &doc); err != nil {
+			t.Fatal(err)
+		}
+		if doc.Model["name"] != c.name || doc.Model["k"] != c.k {
+			t.Errorf("%v: model %v, want name %s and k %v", c.args, doc.Model, c.name, c.k)
+		}
+	}
+}

@@ -51,7 +51,7 @@ cases responsible for --share of transmission, and the superspreading threshold.
 			}
 			printOutlook(e.stdout, res)
 			if jsonOut != "" {
-				return writeJSON(e, jsonOut, res)
+				return writeJSON(e, jsonOut, newOutlookJSON(res))
 			}
 			return nil
 		},
@@ -109,7 +109,7 @@ func outlookDistribution(c *cobra.Command, model string, R, k float64, pmf strin
 }
 
 func printOutlook(w io.Writer, r *branching.OutlookResult) {
-	fmt.Fprintf(w, "Offspring model   %s, mean %.4g\n", r.Model.Name, r.Mean)
+	fmt.Fprintf(w, "Offspring model   %s, mean %.4g\n", r.Distribution.Name(), r.Distribution.Mean())
 	fmt.Fprintf(w, "Extinction        %.6f  (probability one introduction dies out)\n", r.ExtinctionProbability)
 	fmt.Fprintf(w, "Major outbreak    %.6f\n", r.MajorOutbreakProbability)
 	if r.ShareByNu != nil {
@@ -142,4 +142,59 @@ func fmtG(p *float64) string {
 		return "–"
 	}
 	return strconv.FormatFloat(*p, 'g', 4, 64)
+}
+
+// outlookJSON is the document `outlook --json` writes.
+type outlookJSON struct {
+	Model struct {
+		Name string  `json:"name"`
+		R    float64 `json:"R"`
+		// K is the dispersion of a gamma-distributed ν (the negative binomial's k, 1 for the
+		// geometric), null for other models.
+		K *float64 `json:"k"`
+	} `json:"model"`
+	Mean                     float64 `json:"mean"`
+	ExtinctionProbability    float64 `json:"extinction_probability"`
+	MajorOutbreakProbability float64 `json:"major_outbreak_probability"`
+	// The share fields keep their "80pct" names whatever ShareTarget is.
+	ShareTarget      float64                 `json:"share_target"`
+	ShareByNu        *float64                `json:"share_causing_80pct"`
+	ShareByOffspring *float64                `json:"share_causing_80pct_offspring"`
+	SSEThreshold     int                     `json:"sse_threshold"`
+	Generations      []outlookGenerationJSON `json:"generations"`
+	ChainSize        struct {
+		// PMF[i] = P(Y = i + 1).
+		PMF  []float64 `json:"pmf"`
+		Mean *float64  `json:"mean"`
+		// TruncatedMass = q − Σ PMF (finite chains longer than the list).
+		TruncatedMass float64 `json:"truncated_mass"`
+	} `json:"chain_size"`
+}
+
+type outlookGenerationJSON struct {
+	N             int       `json:"n"`
+	PZero         float64   `json:"p_zero"`
+	Mean          *float64  `json:"mean"`
+	Variance      *float64  `json:"variance"`
+	PMF           []float64 `json:"pmf"`
+	TruncatedMass float64   `json:"truncated_mass"`
+}
+
+func newOutlookJSON(r *branching.OutlookResult) outlookJSON {
+	var o outlookJSON
+	d := r.Distribution
+	o.Model.Name, o.Model.R, o.Mean = d.Name(), d.Mean(), d.Mean()
+	if mp, ok := d.(offspring.MixedPoisson); ok {
+		if g, ok := mp.IndividualR().(offspring.GammaNu); ok {
+			o.Model.K = &g.Shape
+		}
+	}
+	o.ExtinctionProbability, o.MajorOutbreakProbability = r.ExtinctionProbability, r.MajorOutbreakProbability
+	o.ShareTarget, o.ShareByNu, o.ShareByOffspring, o.SSEThreshold = r.ShareTarget, r.ShareByNu, r.ShareByOffspring, r.SSEThreshold
+	for _, g := range r.Generations {
+		o.Generations = append(o.Generations, outlookGenerationJSON{N: g.N, PZero: g.PZero, Mean: g.Mean,
+			Variance: g.Variance, PMF: g.PMF, TruncatedMass: g.TruncatedMass})
+	}
+	o.ChainSize.PMF, o.ChainSize.Mean, o.ChainSize.TruncatedMass = r.ChainSize.PMF, r.ChainSize.Mean, r.ChainSize.TruncatedMass
+	return o
 }

@@ -32,7 +32,7 @@ func hasKeys(t *testing.T, where string, m map[string]any, keys ...string) {
 	}
 }
 
-// The estimate --json schema of issues 3 and 4.
+// The documented estimate --json schema (pipeline/analysis/summary.go).
 func TestEstimateJSONSchema(t *testing.T) {
 	list := simulated(t, t.TempDir())
 	code, stdout, stderr := cli(t, "estimate", "--as-of", "2026-03-27", "--bootstrap", "200", "--json", "-", list)
@@ -49,8 +49,10 @@ func TestEstimateJSONSchema(t *testing.T) {
 		"best_model", "R", "k", "bootstrap", "chain_size_fit", "zero_share", "share_causing_80pct_observed", "superspreaders")
 	for _, m := range o["models"].([]any) {
 		mm := m.(map[string]any)
-		hasKeys(t, "model", mm, "name", "R", "k", "loglik", "aic", "se")
-		hasKeys(t, "se", mm["se"].(map[string]any), "R", "k")
+		hasKeys(t, "model", mm, "name", "parameters", "loglik", "aic", "delta_aic", "expected")
+		for _, p := range mm["parameters"].([]any) {
+			hasKeys(t, "parameter", p.(map[string]any), "name", "estimate", "se")
+		}
 	}
 	for _, e := range []string{"R", "k"} {
 		hasKeys(t, e, o[e].(map[string]any), "estimate", "percentile", "bca")

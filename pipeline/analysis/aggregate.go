@@ -122,15 +122,15 @@ func (a *run) clusters() {
 	// [Blumberg & Lloyd-Smith 2013]: n·P(Y = y) under the (R, k) fitted to these sizes.
 	var pmf []float64
 	if o := a.s.Offspring; o != nil && o.ChainSizeFit != nil {
-		p := offspring.Params{R: o.ChainSizeFit.R, K: math.Inf(1)}
+		p := offspring.Params{o.ChainSizeFit.R, math.Inf(1)}
 		if o.ChainSizeFit.K != nil {
-			p.K = *o.ChainSizeFit.K
+			p[offspring.ParamK] = *o.ChainSizeFit.K
 		}
 		largest := 1
 		for size := range sizes {
 			largest = max(largest, size)
 		}
-		if cs, err := branching.ChainSizes(distribution(p), largest); err == nil {
+		if cs, err := branching.ChainSizes(offspring.NegBinFamily{}.Distribution(p), largest); err == nil {
 			pmf = cs.PMF
 		}
 	}

@@ -200,10 +200,10 @@ func TestPseudonymised(t *testing.T) {
 func TestBinsCountWhatTheyLeaveOut(t *testing.T) {
 	var reps []offspring.Params
 	for i := range 200 {
-		reps = append(reps, offspring.Params{R: 1, K: 0.3 + float64(i)/100})
+		reps = append(reps, offspring.Params{1, 0.3 + float64(i)/100})
 	}
-	reps = append(reps, offspring.Params{R: 1, K: math.Inf(1)}, offspring.Params{R: 1, K: math.Inf(1)},
-		offspring.Params{R: 1, K: math.NaN()}, offspring.Params{R: 1, K: 1e4})
+	reps = append(reps, offspring.Params{1, math.Inf(1)}, offspring.Params{1, math.Inf(1)},
+		offspring.Params{1, math.NaN()}, offspring.Params{1, 1e4})
 	b := bins(reps, offspring.StatK)
 	binned := 0
 	for _, c := range b.Counts {

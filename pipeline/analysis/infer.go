@@ -2,7 +2,6 @@ package analysis
 
 import (
 	"github.com/caseweave/caseweave/pipeline/linelist"
-	"math"
 	"sort"
 
 	"github.com/caseweave/caseweave/pipeline/forest"
@@ -73,7 +72,7 @@ func tableOf(counts []int32, cases []int32) offspring.FreqTable {
 // acceleration comes from the jackknife of the first imputed table.
 func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error) {
 	B := a.o.Replicates
-	res := &offspring.BootstrapResult{Method: a.o.Unit, Seed: a.o.Seed, Replicates: make([]offspring.Params, B)}
+	res := &offspring.BootstrapResult{Method: a.o.Unit, Seed: a.o.Seed, Family: a.family, Replicates: make([]offspring.Params, B)}
 	ks := make([]float64, 0, B)
 	var assign []int
 	var counts []int32
@@ -87,7 +86,7 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 		} else {
 			sample.Cases = tableOf(counts, used)
 		}
-		one, err := offspring.Bootstrap(sample, offspring.BootstrapOptions{Replicates: 1, Seed: a.o.Seed + uint64(b) + 1, Workers: 1})
+		one, err := offspring.Bootstrap(sample, offspring.BootstrapOptions{Replicates: 1, Seed: a.o.Seed + uint64(b) + 1, Workers: 1, Family: a.family})
 		if err != nil {
 			return nil, err
 		}
@@ -95,10 +94,7 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 			res.Jackknife, res.JackknifeWeights, res.Units = one.Jackknife, one.JackknifeWeights, one.Units
 		}
 		res.Replicates[b] = one.Replicates[0]
-		if math.IsInf(one.Replicates[0].K, 1) {
-			res.PoissonLimit++
-		}
-		ks = append(ks, one.Estimate.K)
+		ks = append(ks, one.Estimate[offspring.ParamK])
 		if a.o.Progress != nil {
 			a.o.Progress(b+1, B)
 		}
@@ -108,6 +104,7 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 		sum += float64(a.f.Offspring[i]) + a.expected[i]
 	}
 	sort.Float64s(ks)
-	res.Estimate = offspring.Params{R: sum / float64(len(used)), K: ks[len(ks)/2]}
+	res.Estimate = offspring.Params{sum / float64(len(used)), ks[len(ks)/2]}
+	res.Unbounded, res.FailedFits = offspring.CountUnbounded(res.Replicates)
 	return res, nil
 }

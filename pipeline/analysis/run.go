@@ -6,6 +6,7 @@ import (
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"github.com/caseweave/caseweave/pipeline/branching"
@@ -160,7 +161,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 		Replicates: opts.Replicates, Level: opts.Level, Interval: opts.Interval, Unit: opts.Unit,
 		SuppressBelow: opts.SuppressBelow,
 	}
-	a := &run{s: s, cases: ll.Cases, f: f, o: opts}
+	a := &run{s: s, cases: ll.Cases, f: f, o: opts, family: offspring.NegBinFamily{}}
 	a.selectCases()
 	if opts.Select != nil {
 		s.Tree = a.scopedTree()
@@ -190,7 +191,8 @@ type run struct {
 	inScope  []bool
 	w        int                   // censoring window, days
 	serial   timing.SerialInterval // nil when none
-	fit      *offspring.ModelFit   // negative binomial fit behind the outlook
+	family   offspring.Family      // the family behind the intervals and the outlook
+	fit      *offspring.ModelFit   // its fit
 	boot     *offspring.BootstrapResult
 	infer    *timing.Infectors // nil unless missing infectors are inferred
 	expected []float64         // expected inferred offspring per case
@@ -391,24 +393,27 @@ func (a *run) offspring() {
 	}
 	for i := range fits {
 		m := fits[i]
-		mf := ModelFit{Name: m.Name, R: m.R, K: m.K, LogLik: m.LogLik, AIC: m.AIC, DeltaAIC: m.AIC - bestAIC,
-			SE: SE{R: numeric.FinitePtr(m.SE.R), K: m.SE.K}}
+		mf := ModelFit{Name: m.Name, LogLik: m.LogLik, AIC: m.AIC, DeltaAIC: m.AIC - bestAIC}
+		for j, name := range m.ParamNames {
+			mf.Parameters = append(mf.Parameters, Parameter{Name: name,
+				Estimate: numeric.FinitePtr(m.Params[j]), SE: numeric.FinitePtr(m.SE[j])})
+		}
 		d := m.Distribution()
 		mf.Expected = make([]float64, len(o.Histogram))
 		for x := range mf.Expected {
 			mf.Expected[x] = float64(o.N) * d.PMF(x)
 		}
 		o.Models = append(o.Models, mf)
-		if m.Name == offspring.NameNegativeBinomial {
+		if m.Name == a.family.Name() {
 			a.fit = &fits[i]
 		}
 	}
 	if a.fit == nil {
-		a.note("The negative binomial model was not fitted; no intervals or outlook.")
+		a.note("The %s model was not fitted; no intervals or outlook.", a.family.Name())
 		a.s.Offspring = o
 		return
 	}
-	o.PoissonLimit = a.fit.PoissonLimit()
+	o.PoissonLimit = a.fit.AtLimit()
 
 	var boot *offspring.BootstrapResult
 	if a.infer != nil {
@@ -420,6 +425,7 @@ func (a *run) offspring() {
 		}
 		boot, err = offspring.Bootstrap(sample, offspring.BootstrapOptions{
 			Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
+			Family: a.family,
 		})
 	}
 	if err != nil {
@@ -429,29 +435,25 @@ func (a *run) offspring() {
 	}
 	a.boot = boot
 	o.Bootstrap = BootstrapInfo{Replicates: a.o.Replicates, Seed: a.o.Seed, Unit: a.o.Unit, Level: a.o.Level,
-		PoissonLimitShare: float64(boot.PoissonLimit) / float64(len(boot.Replicates))}
-	o.R = a.interval(offspring.StatR, boot.Estimate.R)
-	o.K = a.interval(offspring.StatK, boot.Estimate.K)
+		PoissonLimitShare: float64(boot.Unbounded) / float64(len(boot.Replicates))}
+	o.R = a.interval(offspring.StatR, boot.Estimate.R())
+	o.K = a.interval(offspring.StatK, boot.Estimate[offspring.ParamK])
 	o.ReplicatesR = bins(boot.Replicates, offspring.StatR)
 	o.ReplicatesK = bins(boot.Replicates, offspring.StatK)
 
-	o.ZeroShare = float64(t.Counts[0]) / float64(o.N)
-	if t.Values[0] != 0 {
-		o.ZeroShare = 0
-	}
+	o.ZeroShare, _ = offspring.ZeroShare(t) // t has at least two cases here
 	o.ShareCausing80pctObserved = numeric.FinitePtr(offspring.ObservedShare(t, a.o.Share))
-	o.SSEThreshold = offspring.SuperspreadingThreshold(a.fit.R)
-	var sse []int32
-	for _, i := range used {
-		if int(a.counts[i]) > o.SSEThreshold {
-			sse = append(sse, i)
-		}
+	counts := make([]int, len(used))
+	for k, i := range used {
+		counts[k] = int(a.counts[i])
 	}
-	sort.SliceStable(sse, func(x, y int) bool { return a.counts[sse[x]] > a.counts[sse[y]] })
+	var sse []int
+	o.SSEThreshold, sse, _ = offspring.Superspreaders(counts, a.fit.R()) // R is a finite mean
+	sort.SliceStable(sse, func(x, y int) bool { return counts[sse[x]] > counts[sse[y]] })
 	o.SuperspreaderOffspring = make([]int, len(sse))
-	for k, i := range sse {
-		o.Superspreaders = append(o.Superspreaders, a.cases[i].ID)
-		o.SuperspreaderOffspring[k] = int(a.counts[i])
+	for k, j := range sse {
+		o.Superspreaders = append(o.Superspreaders, a.cases[used[j]].ID)
+		o.SuperspreaderOffspring[k] = counts[j]
 	}
 	for _, p := range offspring.ConcentrationCurve(t) {
 		o.Concentration = append(o.Concentration, CurvePoint{X: p.CaseShare, Y: p.TransmissionShare})
@@ -493,14 +495,6 @@ func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimat
 		Percentile: [2]*float64{numeric.FinitePtr(iv.Percentile[0]), numeric.FinitePtr(iv.Percentile[1])},
 		BCa:        [2]*float64{numeric.FinitePtr(iv.BCa[0]), numeric.FinitePtr(iv.BCa[1])},
 	}
-}
-
-// distribution turns an (R, k) pair into its offspring distribution (Poisson when k = ∞).
-func distribution(p offspring.Params) offspring.Distribution {
-	if math.IsInf(p.K, 1) || math.IsNaN(p.K) {
-		return offspring.Poisson{R: p.R}
-	}
-	return offspring.NegBin{R: p.R, K: p.K}
 }
 
 func (a *run) chainSizeFit() *ChainSizeFit {
@@ -550,20 +544,17 @@ func (a *run) outlook() {
 		return
 	}
 	point := a.boot.Estimate
-	d := distribution(point)
-	ol := &Outlook{Model: offspring.NameNegativeBinomial}
-	if a.fit.PoissonLimit() {
-		ol.Model = offspring.NamePoisson
-	}
+	d := a.family.Distribution(point)
+	ol := &Outlook{Model: d.Name()}
 	q := func(p offspring.Params) float64 {
-		v, err := branching.ExtinctionProbability(distribution(p))
+		v, err := branching.ExtinctionProbability(a.family.Distribution(p))
 		if err != nil {
 			return math.NaN()
 		}
 		return v
 	}
 	share := func(p offspring.Params) float64 {
-		v, err := branching.ShareByNu(distribution(p), a.o.Share)
+		v, err := branching.ShareByNu(a.family.Distribution(p), a.o.Share)
 		if err != nil || v == nil {
 			return math.NaN()
 		}
@@ -572,7 +563,7 @@ func (a *run) outlook() {
 	ol.ExtinctionProbability = a.interval(q, q(point))
 	ol.MajorOutbreakProbability = a.interval(func(p offspring.Params) float64 { return 1 - q(p) }, 1-q(point))
 	ol.ShareCausing80pct = a.interval(share, share(point))
-	ol.SSEThreshold = offspring.SuperspreadingThreshold(point.R)
+	ol.SSEThreshold = offspring.SuperspreadingThreshold(point.R())
 	for _, i := range a.selected {
 		if a.censored(i) {
 			ol.Active++
@@ -580,8 +571,8 @@ func (a *run) outlook() {
 	}
 	reps := make([]offspring.Distribution, 0, projectionReplicates)
 	for b := 0; b < len(a.boot.Replicates) && b < projectionReplicates; b++ {
-		if p := a.boot.Replicates[b]; !math.IsNaN(p.K) {
-			reps = append(reps, distribution(p))
+		if p := a.boot.Replicates[b]; !slices.ContainsFunc(p, math.IsNaN) {
+			reps = append(reps, a.family.Distribution(p))
 		}
 	}
 	if len(reps) == 0 {
@@ -625,7 +616,7 @@ func (a *run) endOfOutbreak() {
 			last = a.cases[i].Onset
 		}
 	}
-	res, err := branching.EndOfOutbreak(onsets, distribution(a.boot.Estimate), a.serial.CDF, int(a.o.AsOf), eooHorizon)
+	res, err := branching.EndOfOutbreak(onsets, a.family.Distribution(a.boot.Estimate), a.serial.CDF, int(a.o.AsOf), eooHorizon)
 	if err != nil {
 		a.note("No end-of-outbreak curve: %v.", err)
 		return
@@ -705,10 +696,8 @@ func (a *run) weekly() {
 	}
 	k := 0.0 // let WeeklyR estimate it
 	if a.fit != nil {
-		if a.fit.K != nil {
-			k = *a.fit.K
-		} else {
-			k = math.Inf(1)
+		if v, _, ok := a.fit.Param("k"); ok {
+			k = v // +Inf in the Poisson limit
 		}
 	}
 	res, err := timing.WeeklyR(onsets, off, timing.WeeklyOptions{AnalysisDate: a.o.AsOf, Window: a.w, Level: a.o.Level, Dispersion: k})

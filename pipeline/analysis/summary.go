@@ -135,23 +135,25 @@ type Offspring struct {
 	ReplicatesK *Bins `json:"replicates_k,omitempty"`
 }
 
-// ModelFit is one offspring model fitted by maximum likelihood. Expected[x] is n·P(Z = x)
-// for x over the histogram's range, for the fitted-model overlay.
+// ModelFit is one offspring model fitted by maximum likelihood, with its parameters in the
+// model's order (R first). Expected[x] is n·P(Z = x) for x over the histogram's range, for
+// the fitted-model overlay. AIC = 2·(number of parameters) − 2·LogLik.
 type ModelFit struct {
-	Name     string    `json:"name"`
-	R        float64   `json:"R"`
-	K        *float64  `json:"k"`
-	LogLik   float64   `json:"loglik"`
-	AIC      float64   `json:"aic"`
-	DeltaAIC float64   `json:"delta_aic"`
-	SE       SE        `json:"se"`
-	Expected []float64 `json:"expected"`
+	Name       string      `json:"name"`
+	Parameters []Parameter `json:"parameters"`
+	LogLik     float64     `json:"loglik"`
+	AIC        float64     `json:"aic"`
+	DeltaAIC   float64     `json:"delta_aic"`
+	Expected   []float64   `json:"expected"`
 }
 
-// SE holds standard errors from the observed information.
-type SE struct {
-	R *float64 `json:"R"`
-	K *float64 `json:"k"`
+// Parameter is one fitted parameter with its standard error from the observed information.
+// Estimate is null when unbounded (the negative binomial's k in the Poisson limit); SE is
+// null when the information gives none.
+type Parameter struct {
+	Name     string   `json:"name"`
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
 }
 
 // BootstrapInfo records how the intervals were made.

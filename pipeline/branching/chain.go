@@ -42,53 +42,11 @@ type ChainSizeDistribution struct {
 	Method     string  `json:"method"`
 }
 
-// ChainSizeLogPMFNegBin is log P(Y = y) for the negative binomial offspring model
-// [Blumberg & Lloyd-Smith 2013, PLoS Comput Biol 9:e1002993, eq. 3]:
-//
-//	P(Y = y) = Γ(ky + y − 1)/(Γ(ky)·Γ(y + 1)) · (R/k)^{y−1}/(1 + R/k)^{ky+y−1},
-//
-// computed with Lgamma and log1p. It is −Inf for y < 1, and for y > 1 when R = 0.
-func ChainSizeLogPMFNegBin(R, k float64, y int) float64 {
-	if v, ok := trivialChainSize(R, y); ok {
-		return v
-	}
-	fy := float64(y)
-	a, _ := math.Lgamma(k*fy + fy - 1)
-	b, _ := math.Lgamma(k * fy)
-	c, _ := math.Lgamma(fy + 1)
-	return a - b - c + (fy-1)*math.Log(R/k) - (k*fy+fy-1)*math.Log1p(R/k)
-}
-
-// trivialChainSize answers log P(Y = y) where no formula is needed: sizes below 1 are
-// impossible, and with R = 0 every chain is its root alone.
-func trivialChainSize(R float64, y int) (float64, bool) {
-	switch {
-	case y < 1:
-		return math.Inf(-1), true
-	case R == 0 && y == 1:
-		return 0, true
-	case R == 0:
-		return math.Inf(-1), true
-	}
-	return 0, false
-}
-
-// ChainSizeLogPMFBorel is log P(Y = y) for Poisson(R) offspring, the Borel distribution
-// [Blumberg & Lloyd-Smith 2013; Borel 1942]: P(Y = y) = e^{−Ry}(Ry)^{y−1}/y!.
-func ChainSizeLogPMFBorel(R float64, y int) float64 {
-	if v, ok := trivialChainSize(R, y); ok {
-		return v
-	}
-	fy := float64(y)
-	c, _ := math.Lgamma(fy + 1)
-	return -R*fy + (fy-1)*math.Log(R*fy) - c
-}
-
 // ChainSizes returns the chain-size distribution from one root, listing at most maxSize
-// sizes (0 means MaxChainSize). The negative binomial, geometric (k = 1) and Poisson models
-// use the closed forms (ChainSizeLogPMFNegBin, ChainSizeLogPMFBorel); any other model
-// uses ChainSizesLagrange. The list stops once the finite-size mass left, q − Σ PMF,
-// falls below TrimMass.
+// sizes (0 means MaxChainSize). A model with a closed form (offspring.ChainSizer: the
+// negative binomial, geometric and Poisson of Blumberg & Lloyd-Smith 2013) is listed from
+// it; any other model goes through ChainSizesLagrange. The list stops once the finite-size
+// mass left, q − Σ PMF, falls below TrimMass.
 func ChainSizes(d offspring.Distribution, maxSize int) (*ChainSizeDistribution, error) {
 	if err := checkDistribution(d); err != nil {
 		return nil, err
@@ -99,15 +57,8 @@ func ChainSizes(d offspring.Distribution, maxSize int) (*ChainSizeDistribution, 
 	if maxSize == 0 {
 		maxSize = MaxChainSize
 	}
-	var logp func(y int) float64
-	switch m := d.(type) {
-	case offspring.NegBin:
-		logp = func(y int) float64 { return ChainSizeLogPMFNegBin(m.R, m.K, y) }
-	case offspring.Geometric:
-		logp = func(y int) float64 { return ChainSizeLogPMFNegBin(m.R, 1, y) }
-	case offspring.Poisson:
-		logp = func(y int) float64 { return ChainSizeLogPMFBorel(m.R, y) }
-	default:
+	cs, ok := d.(offspring.ChainSizer)
+	if !ok {
 		return ChainSizesLagrange(d, maxSize)
 	}
 	q, err := ExtinctionProbability(d)
@@ -117,7 +68,7 @@ func ChainSizes(d offspring.Distribution, maxSize int) (*ChainSizeDistribution, 
 	out := &ChainSizeDistribution{Extinction: q, Method: ChainMethodClosedForm, Mean: chainMean(d.Mean())}
 	var cum numeric.Sum
 	for y := 1; y <= maxSize; y++ {
-		p := math.Exp(logp(y))
+		p := math.Exp(cs.ChainSizeLogPMF(y))
 		out.PMF = append(out.PMF, p)
 		cum.Add(p)
 		if q-cum.Value() < TrimMass {

@@ -12,22 +12,22 @@ func TestChainSizeClosedFormsSciPy(t *testing.T) {
 	// NB chain sizes [Blumberg & Lloyd-Smith 2013, eq. 3], evaluated with SciPy 1.10.1
 	// scipy.special.gammaln (testdata/branching/make_reference.py).
 	for _, r := range ref.ChainNegbin {
-		got := math.Exp(ChainSizeLogPMFNegBin(r.R, r.K, r.Y))
+		got := math.Exp(offspring.NegBin{R: r.R, K: r.K}.ChainSizeLogPMF(r.Y))
 		if !near(got, r.P, 1e-12*r.P+1e-300) {
 			t.Errorf("NB(%v,%v) y=%d: %v, SciPy %v", r.R, r.K, r.Y, got, r.P)
 		}
 	}
 	// Borel e^{−Ry}(Ry)^{y−1}/y! [Blumberg & Lloyd-Smith 2013], SciPy gammaln.
 	for _, r := range ref.ChainBorel {
-		got := math.Exp(ChainSizeLogPMFBorel(r.R, r.Y))
+		got := math.Exp(offspring.Poisson{R: r.R}.ChainSizeLogPMF(r.Y))
 		if !near(got, r.P, 1e-12*r.P+1e-300) {
 			t.Errorf("Borel(%v) y=%d: %v, SciPy %v", r.R, r.Y, got, r.P)
 		}
 	}
 	// The NB with k → ∞ tends to Borel (Poisson limit of the NB [Lloyd-Smith et al. 2005]).
 	for _, y := range []int{1, 3, 10} {
-		nb := math.Exp(ChainSizeLogPMFNegBin(0.7, 1e8, y))
-		b := math.Exp(ChainSizeLogPMFBorel(0.7, y))
+		nb := math.Exp(offspring.NegBin{R: 0.7, K: 1e8}.ChainSizeLogPMF(y))
+		b := math.Exp(offspring.Poisson{R: 0.7}.ChainSizeLogPMF(y))
 		if !near(nb, b, 1e-6*b) {
 			t.Errorf("y=%d: NB k=1e8 %v vs Borel %v", y, nb, b)
 		}

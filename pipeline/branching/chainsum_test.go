@@ -1,6 +1,7 @@
 package branching
 
 import (
+	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"strconv"
@@ -20,9 +21,9 @@ func termSum(g func(float64) float64, a, b int) float64 {
 // integer sizes, from the package's closed forms, as a function of a real argument.
 func chainLogPMF(R, k float64) func(float64) float64 {
 	if math.IsInf(k, 1) {
-		return func(x float64) float64 { return ChainSizeLogPMFBorel(R, int(x)) }
+		return func(x float64) float64 { return offspring.Poisson{R: R}.ChainSizeLogPMF(int(x)) }
 	}
-	return func(x float64) float64 { return ChainSizeLogPMFNegBin(R, k, int(x)) }
+	return func(x float64) float64 { return offspring.NegBin{R: R, K: k}.ChainSizeLogPMF(int(x)) }
 }
 
 // TestSmoothSumMatchesTermByTerm compares the Euler–Maclaurin quadrature of smoothSum with

@@ -250,8 +250,10 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 	// half circle determine those of the lower half, which halves the work.
 	half := M/2 + 1
 	last := make([]int, len(ds))
+	logs := make([]offspring.ComplexLogPGFer, len(ds)) // nil where a model has no logarithm first
 	for b, d := range ds {
 		last[b] = lastLivePoint(d, logRho[b][0], r, M, half)
+		logs[b], _ = d.(offspring.ComplexLogPGFer)
 	}
 	// The points near s = r carry most of the work, so they are handed out in small blocks
 	// to whichever worker is free; each value is still summed by one goroutine in a fixed
@@ -279,15 +281,17 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 							// l is a logarithm of w' = G(w): its real part, log|w'|, decides
 							// the skip before any exponential is taken, and w'^a = e^{a·l}
 							// for any branch, a being an integer.
-							l, ok := logPGFComplex(d, w)
-							if !ok {
+							var l complex128
+							if logs[b] != nil {
+								l = logs[b].LogPGFComplex(w)
+							} else {
 								w = d.PGFComplex(w)
 								l = cmplx.Log(w)
 							}
 							if real(l) < logRho[b][n] {
 								break
 							}
-							if ok {
+							if logs[b] != nil {
 								w = cmplx.Exp(l) // G(w) exactly as PGFComplex computes it
 							}
 							if a <= binaryPowerMax {
@@ -312,50 +316,22 @@ func evalMixtureSkip(ds []offspring.Distribution, a, N, M int, skip bool) [][]co
 
 // lastLivePoint returns the largest m < half at which log|G(s_m)|, s_m = r·e^{2πim/M}, may
 // reach logRho (the first-step bound of underflowRadii); from there on every term of the
-// replicate is 0. For the Poisson, geometric and negative binomial families |G(r·e^{iθ})|
-// decreases in θ on [0, π] (|1 + c(1 − s)| grows as Re s falls; for the Poisson,
-// |G| = e^{R(Re s − 1)}), so the first point past the bound is found by bisection. Any
-// other distribution gets half − 1: every point is evaluated.
+// replicate is 0. For a model whose |G(r·e^{iθ})| decreases in θ on [0, π]
+// (offspring.ModulusDecreasing) the first point past the bound is found by bisection. Any
+// other model gets half − 1: every point is evaluated.
 func lastLivePoint(d offspring.Distribution, logRho, r float64, M, half int) int {
-	var logAbs2 func(s complex128) float64 // log|G(s)|²
-	switch d := d.(type) {
-	case offspring.Poisson:
-		logAbs2 = func(s complex128) float64 { return 2 * d.R * (real(s) - 1) }
-	case offspring.Geometric:
-		logAbs2 = func(s complex128) float64 { return -logAbs2Linear(d.R, s) }
-	case offspring.NegBin:
-		logAbs2 = func(s complex128) float64 { return -d.K * logAbs2Linear(d.R/d.K, s) }
-	}
-	if logAbs2 == nil || math.IsInf(logRho, -1) {
+	md, ok := d.(offspring.ModulusDecreasing)
+	if !ok || math.IsInf(logRho, -1) {
 		return half - 1
 	}
 	cut := 2 * logRho
-	dead := func(m int) bool { return logAbs2(cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))) < cut }
+	dead := func(m int) bool { return md.LogAbs2PGF(cmplx.Rect(r, 2*math.Pi*float64(m)/float64(M))) < cut }
 	if !dead(half - 1) {
 		return half - 1
 	}
 	// The first dead point: dead(m) is false below it and true from it on.
 	first := sort.Search(half, dead)
 	return first - 1
-}
-
-// logPGFComplex is logPGF on the complex disc: a logarithm of G(s) whose exponential is, bit
-// for bit, what PGFComplex returns, for the families where that logarithm comes first
-// (negative binomial, Poisson); ok is false for the others.
-func logPGFComplex(d offspring.Distribution, s complex128) (l complex128, ok bool) {
-	switch d := d.(type) {
-	case offspring.NegBin:
-		return complex(-d.K, 0) * cmplx.Log(1+complex(d.R/d.K, 0)*(1-s)), true
-	case offspring.Poisson:
-		return complex(d.R, 0) * (s - 1), true
-	}
-	return 0, false
-}
-
-// logAbs2Linear is log|1 + c(1 − s)|².
-func logAbs2Linear(c float64, s complex128) float64 {
-	x, y := 1+c*(1-real(s)), -c*imag(s)
-	return math.Log(x*x + y*y)
 }
 
 // underflowLog is a log-modulus below which e^x is 0 in float64 with a wide margin (the

@@ -59,13 +59,8 @@ func ExampleChainSizesLagrange() {
 
 func ExampleChainSizeLagrangeAt() {
 	p, _ := branching.ChainSizeLagrangeAt(offspring.Poisson{R: 0.5}, 2)
-	fmt.Printf("%.4f %.4f\n", p, math.Exp(branching.ChainSizeLogPMFBorel(0.5, 2)))
+	fmt.Printf("%.4f %.4f\n", p, math.Exp(offspring.Poisson{R: 0.5}.ChainSizeLogPMF(2)))
 	// Output: 0.1839 0.1839
-}
-
-func ExampleChainSizeLogPMFNegBin() {
-	fmt.Printf("%.4f\n", math.Exp(branching.ChainSizeLogPMFNegBin(0.5, 1, 1)))
-	// Output: 0.6667
 }
 
 func ExampleFitChainSizes() {
@@ -126,6 +121,6 @@ func ExampleProject() {
 
 func ExampleOutlook() {
 	res, _ := branching.Outlook(offspring.NegBin{R: 2.5, K: 0.1}, 1, 2, 0.8)
-	fmt.Printf("%s q=%.3f share=%.3f sse=%d gens=%d\n", res.Model.Name, res.ExtinctionProbability, *res.ShareByNu, res.SSEThreshold, len(res.Generations))
+	fmt.Printf("%s q=%.3f share=%.3f sse=%d gens=%d\n", res.Distribution.Name(), res.ExtinctionProbability, *res.ShareByNu, res.SSEThreshold, len(res.Generations))
 	// Output: negative_binomial q=0.861 share=0.098 sse=7 gens=2
 }

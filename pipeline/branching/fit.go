@@ -3,6 +3,7 @@ package branching
 import (
 	"fmt"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/offspring"
 	"math"
 	"runtime"
 	"sort"
@@ -200,26 +201,20 @@ func directTail(logp func(int) float64, logpx func(float64) float64, y, sumFrom 
 }
 
 // chainLogPMFs returns the chain-size log-probability of NB(R, k), or Borel for k = +Inf
-// (ChainSizeLogPMFNegBin, ChainSizeLogPMFBorel), twice from one formula: at integer sizes,
+// (offspring.NegBinChainSize, offspring.BorelChainSize), twice from one formula: at integer sizes,
 // with log Γ(y + 1) from the table's cache, and continued to real sizes x through log Γ, for
 // smoothSum (nil when R ≤ 0, where every chain is its root alone). The (R, k)-only terms are
 // hoisted out of the returned functions: the likelihood runs inside every optimiser step of
 // every bootstrap replicate.
 func chainLogPMFs(t *chainTable, R, k float64) (logp func(y int) float64, logpx func(x float64) float64) {
 	if !(R > 0) {
-		return func(y int) float64 { return ChainSizeLogPMFNegBin(R, k, y) }, nil
+		return offspring.NegBin{R: R, K: k}.ChainSizeLogPMF, nil
 	}
 	var core func(x, lgx1 float64) float64 // log P(Y = x) given log Γ(x + 1)
 	if math.IsInf(k, 1) {
-		lr := math.Log(R)
-		core = func(x, lgx1 float64) float64 { return -R*x + (x-1)*(lr+math.Log(x)) - lgx1 }
+		core = offspring.NewBorelChainSize(R).LogPMF
 	} else {
-		lrk, l1rk := math.Log(R/k), math.Log1p(R/k)
-		core = func(x, lgx1 float64) float64 {
-			a, _ := math.Lgamma(k*x + x - 1)
-			b, _ := math.Lgamma(k * x)
-			return a - b - lgx1 + (x-1)*lrk - (k*x+x-1)*l1rk
-		}
+		core = offspring.NewNegBinChainSize(R, k).LogPMF
 	}
 	logp = func(y int) float64 { return core(float64(y), t.lgammaY1(y)) }
 	logpx = func(x float64) float64 {

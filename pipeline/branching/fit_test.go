@@ -141,7 +141,7 @@ func TestFitChainSizesEdgeCases(t *testing.T) {
 	tab, _ := tabulateChains([]ChainObservation{{4, true}})
 	var below float64
 	for y := 1; y < 4; y++ {
-		below += math.Exp(ChainSizeLogPMFNegBin(0.7, 0.5, y))
+		below += math.Exp(offspring.NegBin{R: 0.7, K: 0.5}.ChainSizeLogPMF(y))
 	}
 	if ll := chainLogLik(&tab, 0.7, 0.5); !near(ll, math.Log(1-below), 1e-14) {
 		t.Errorf("censored log-likelihood %v, want %v", ll, math.Log(1-below))
@@ -150,7 +150,7 @@ func TestFitChainSizesEdgeCases(t *testing.T) {
 	tab, _ = tabulateChains([]ChainObservation{{400, true}})
 	var tail float64
 	for y := 400; y < 20000; y++ {
-		tail += math.Exp(ChainSizeLogPMFNegBin(0.3, 2, y))
+		tail += math.Exp(offspring.NegBin{R: 0.3, K: 2}.ChainSizeLogPMF(y))
 	}
 	if ll := chainLogLik(&tab, 0.3, 2); !near(ll, math.Log(tail), 1e-9*math.Abs(math.Log(tail))) {
 		t.Errorf("far-censored log-likelihood %v, want %v", ll, math.Log(tail))

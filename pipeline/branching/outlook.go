@@ -12,46 +12,21 @@ import (
 // the list's truncated_mass (so the JSON stays small).
 const OutlookMaxPMFLength = 10_000
 
-// OutlookModel names the offspring model.
-type OutlookModel struct {
-	Name string  `json:"name"`
-	R    float64 `json:"R"`
-	// K is the dispersion: the negative binomial's k, 1 for the geometric, nil otherwise.
-	K *float64 `json:"k"`
-}
-
-// OutlookGeneration is one generation's count distribution in the outlook.
-type OutlookGeneration struct {
-	N             int       `json:"n"`
-	PZero         float64   `json:"p_zero"`
-	Mean          *float64  `json:"mean"`
-	Variance      *float64  `json:"variance"`
-	PMF           []float64 `json:"pmf"`
-	TruncatedMass float64   `json:"truncated_mass"`
-}
-
-// OutlookChainSize is the chain-size distribution from one root in the outlook.
-type OutlookChainSize struct {
-	// PMF[i] = P(Y = i + 1).
-	PMF  []float64 `json:"pmf"`
-	Mean *float64  `json:"mean"`
-	// TruncatedMass = q − Σ PMF (finite chains longer than the list).
-	TruncatedMass float64 `json:"truncated_mass"`
-}
-
-// OutlookResult is the JSON document `caseweave outlook` prints. The share fields keep
-// their "80pct" names whatever ShareTarget is.
+// OutlookResult is the branching-process outlook of one offspring model.
 type OutlookResult struct {
-	Model                    OutlookModel        `json:"model"`
-	Mean                     float64             `json:"mean"`
-	ExtinctionProbability    float64             `json:"extinction_probability"`
-	MajorOutbreakProbability float64             `json:"major_outbreak_probability"`
-	ShareTarget              float64             `json:"share_target"`
-	ShareByNu                *float64            `json:"share_causing_80pct"`
-	ShareByOffspring         *float64            `json:"share_causing_80pct_offspring"`
-	SSEThreshold             int                 `json:"sse_threshold"`
-	Generations              []OutlookGeneration `json:"generations"`
-	ChainSize                OutlookChainSize    `json:"chain_size"`
+	Distribution             offspring.Distribution
+	ExtinctionProbability    float64
+	MajorOutbreakProbability float64
+	// ShareTarget is the share of transmission the two shares below refer to.
+	ShareTarget float64
+	// ShareByNu and ShareByOffspring are nil where the model gives none.
+	ShareByNu        *float64
+	ShareByOffspring *float64
+	SSEThreshold     int
+	// Generations and ChainSize have their PMF lists cut at OutlookMaxPMFLength, the rest
+	// counted in their truncated mass.
+	Generations []GenerationDistribution
+	ChainSize   *ChainSizeDistribution
 }
 
 // Outlook assembles the branching-process outlook of one offspring model: extinction and
@@ -71,14 +46,7 @@ func Outlook(d offspring.Distribution, active, generations int, share float64) (
 	if err := checkTarget(share); err != nil {
 		return nil, err
 	}
-	res := &OutlookResult{
-		Model:       OutlookModel{Name: d.Name(), R: d.Mean()},
-		Mean:        d.Mean(),
-		ShareTarget: share,
-	}
-	if k, ok := dispersion(d); ok {
-		res.Model.K = &k
-	}
+	res := &OutlookResult{Distribution: d, ShareTarget: share}
 	var err error
 	if res.MajorOutbreakProbability, err = MajorOutbreakProbability(d); err != nil {
 		return nil, err
@@ -98,17 +66,12 @@ func Outlook(d offspring.Distribution, active, generations int, share float64) (
 		return nil, err
 	}
 	for _, g := range gens {
-		pmf, trunc := capPMF(g.PMF, g.TruncatedMass, 1)
-		res.Generations = append(res.Generations, OutlookGeneration{
-			N: g.N, PZero: g.PZero, Mean: g.Mean, Variance: g.Variance,
-			PMF: pmf, TruncatedMass: trunc,
-		})
+		g.PMF, g.TruncatedMass = capPMF(g.PMF, g.TruncatedMass, 1)
+		res.Generations = append(res.Generations, g)
 	}
-	cs, err := ChainSizes(d, OutlookMaxPMFLength)
-	if err != nil {
+	if res.ChainSize, err = ChainSizes(d, OutlookMaxPMFLength); err != nil {
 		return nil, err
 	}
-	res.ChainSize = OutlookChainSize{PMF: cs.PMF, Mean: cs.Mean, TruncatedMass: cs.TruncatedMass}
 	if err := checkFinite(res); err != nil {
 		return nil, err
 	}
@@ -127,7 +90,7 @@ func capPMF(p []float64, trunc, total float64) ([]float64, float64) {
 	return p[:OutlookMaxPMFLength], math.Min(total, math.Max(0, total-s.Value()))
 }
 
-// checkFinite guards the JSON encoder, which rejects NaN and ±Inf.
+// checkFinite guards the callers that print the result as JSON, which has no NaN or ±Inf.
 func checkFinite(r *OutlookResult) error {
 	bad := func(what string, v float64) error {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -139,7 +102,7 @@ func checkFinite(r *OutlookResult) error {
 		what string
 		v    float64
 	}{
-		{"R", r.Model.R}, {"extinction probability", r.ExtinctionProbability},
+		{"R", r.Distribution.Mean()}, {"extinction probability", r.ExtinctionProbability},
 		{"major-outbreak probability", r.MajorOutbreakProbability},
 		{"chain-size truncated mass", r.ChainSize.TruncatedMass},
 	} {

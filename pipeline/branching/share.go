@@ -3,10 +3,8 @@ package branching
 import (
 	"fmt"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
-	"math"
 
 	"github.com/caseweave/caseweave/pipeline/offspring"
-	"gonum.org/v1/gonum/mathext"
 )
 
 // DefaultShareTarget is the share of transmission in the "20/80" reading.
@@ -23,14 +21,10 @@ func checkTarget(target float64) error {
 }
 
 // ShareByNu is the share of cases, ranked by their individual reproductive number ν, that
-// cause `target` of all transmission. For the negative binomial ν ~ Gamma(k, mean R), and
-// the cases with ν > x cause the fraction 1 − P(k + 1, xk/R) of transmission and make up
-// the fraction 1 − P(k, xk/R) of cases, P the regularized lower incomplete gamma function
-// [Lloyd-Smith et al. 2005, Nature 438:355, supplement; Endo et al. 2020, Wellcome Open
-// Res 5:67]. So t = xk/R solves P(k + 1, t) = 1 − target and the share is 1 − P(k, t); it
-// depends on k only. The geometric model is k = 1. Under Poisson offspring every ν = R,
-// so the share equals the target. A list (Empirical) carries no ν: the result is nil.
-// With R = 0 there is no transmission and the result is nil.
+// cause `target` of all transmission: the model's own reading of its ν distribution
+// (offspring.MixedPoisson; for the negative binomial the incomplete-gamma formula of
+// Lloyd-Smith et al. 2005, under Poisson offspring the target itself). A model with no ν,
+// such as a list (Empirical), gives nil; so does R = 0, where there is no transmission.
 func ShareByNu(d offspring.Distribution, target float64) (*float64, error) {
 	if err := checkDistribution(d); err != nil {
 		return nil, err
@@ -38,29 +32,23 @@ func ShareByNu(d offspring.Distribution, target float64) (*float64, error) {
 	if err := checkTarget(target); err != nil {
 		return nil, err
 	}
-	if d.Mean() == 0 {
+	mp, ok := d.(offspring.MixedPoisson)
+	if d.Mean() == 0 || !ok {
 		return nil, nil
 	}
-	if _, ok := d.(offspring.Poisson); ok {
-		return &target, nil
+	share, err := mp.IndividualR().ShareCausing(target)
+	if err != nil {
+		return nil, fmt.Errorf("branching: %w", err)
 	}
-	k, ok := dispersion(d)
-	if !ok {
-		return nil, nil
-	}
-	t := mathext.GammaIncRegInv(k+1, 1-target)
-	if math.IsNaN(t) {
-		return nil, fmt.Errorf("branching: incomplete-gamma inverse failed for k = %g, target %g", k, target)
-	}
-	share := mathext.GammaIncRegComp(k, t)
 	return numeric.FinitePtr(share), nil
 }
 
 // ShareByOffspring is the smallest share of cases, ranked by realised offspring count, that
 // cause `target` of all secondary cases when counts follow the model's PMF
 // (offspring.ConcentrationShare with the PMF as weights, interpolating within the boundary
-// count; DOMAIN.md §3, reading (b)). The PMF is cut where the tail mass beyond falls below
-// 1e−12. It is nil when R = 0.
+// count; the "20/80" reading of Lloyd-Smith et al. 2005 applied to counts). The PMF is cut
+// at the model's largest count (offspring.FiniteSupport) or where the tail mass beyond falls
+// below 1e−12. It is nil when R = 0.
 func ShareByOffspring(d offspring.Distribution, target float64) (*float64, error) {
 	if err := checkDistribution(d); err != nil {
 		return nil, err
@@ -73,10 +61,10 @@ func ShareByOffspring(d offspring.Distribution, target float64) (*float64, error
 	}
 	var values []int
 	var weights []float64
-	if e, ok := d.(offspring.Empirical); ok {
-		for x, p := range e.P {
+	if fs, ok := d.(offspring.FiniteSupport); ok {
+		for x := 0; x <= fs.MaxCount(); x++ {
 			values = append(values, x)
-			weights = append(weights, p)
+			weights = append(weights, d.PMF(x))
 		}
 	} else {
 		var cum numeric.Sum

@@ -1,41 +1,19 @@
 package offspring
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"sort"
 	"sync"
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
-
-// Params is one (R, k) pair: the point estimate, a bootstrap replicate or a jackknife value.
-// K is +Inf when that table has no finite k̂ (Poisson limit) and NaN only if the fit failed
-// (counted in BootstrapResult.FailedFits).
-type Params struct {
-	R float64
-	K float64
-}
-
-// MarshalJSON writes K = +Inf as null (JSON has no infinity).
-func (p Params) MarshalJSON() ([]byte, error) {
-	return json.Marshal(struct {
-		R float64  `json:"R"`
-		K *float64 `json:"k"`
-	}{p.R, numeric.FinitePtr(p.K)})
-}
-
-// StatR and StatK extract R and k from a Params, for BootstrapResult.Interval.
-func StatR(p Params) float64 { return p.R }
-
-// StatK returns k (+Inf in the Poisson limit).
-func StatK(p Params) float64 { return p.K }
 
 // Sample is the data a bootstrap resamples: either one frequency table of the offspring
 // counts of all cases (case bootstrap), or one frequency table per cluster (transmission
@@ -63,27 +41,32 @@ type BootstrapOptions struct {
 	// Progress, if set, is called from the calling goroutine as replicates finish, with
 	// done ≤ total = Replicates; the last call has done == total.
 	Progress func(done, total int)
+	// Family is refitted to every replicate; nil means the negative binomial, which nests
+	// the Poisson and geometric models.
+	Family Family
 }
 
-// BootstrapResult holds the negative binomial (R, k) estimate of the sample, its bootstrap
-// replicates and its jackknife values, from which Interval builds percentile and BCa
-// intervals for any function of (R, k).
+// BootstrapResult holds the family's estimate on the sample, its bootstrap replicates and
+// its jackknife values, from which Interval builds percentile and BCa intervals for any
+// function of the parameters.
 type BootstrapResult struct {
-	Method   string `json:"method"`
-	Seed     uint64 `json:"seed"`
-	Estimate Params `json:"estimate"`
+	Method   string
+	Seed     uint64
+	Family   Family
+	Estimate Params
 	// Replicates[b] is the fit to replicate b.
-	Replicates []Params `json:"replicates"`
+	Replicates []Params
 	// Jackknife[i] is the fit with one unit (a case or a cluster) of group i left out;
 	// JackknifeWeights[i] is the number of units in group i (for the case bootstrap, the
 	// number of cases sharing that offspring count). Units is their total.
-	Jackknife        []Params  `json:"jackknife"`
-	JackknifeWeights []float64 `json:"jackknife_weights"`
-	Units            int       `json:"units"`
-	// PoissonLimit counts replicates with no finite k̂ (K = +Inf).
-	PoissonLimit int `json:"poisson_limit_replicates"`
-	// FailedFits counts replicates whose k̂ search failed (K = NaN); expected 0.
-	FailedFits int `json:"failed_fits"`
+	Jackknife        []Params
+	JackknifeWeights []float64
+	Units            int
+	// Unbounded counts replicates with an unbounded estimate (an entry +Inf: for the
+	// negative binomial, no finite k̂, the Poisson limit).
+	Unbounded int
+	// FailedFits counts replicates whose fit failed (an entry NaN); expected 0.
+	FailedFits int
 }
 
 // replicateChunk is the number of replicates a worker claims at a time.
@@ -108,20 +91,24 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
+	fam := opts.Family
+	if fam == nil {
+		fam = NegBinFamily{}
+	}
 	var plan resamplePlan
 	var err error
 	switch {
 	case len(sample.Clusters) > 0 && len(sample.Cases.Values) > 0:
 		return nil, errors.New("bootstrap: the sample has both a case table and clusters; set one")
 	case len(sample.Clusters) > 0:
-		plan, err = newClusterPlan(sample.Clusters)
+		plan, err = newClusterPlan(sample.Clusters, fam)
 	default:
-		plan, err = newCasePlan(sample.Cases)
+		plan, err = newCasePlan(sample.Cases, fam)
 	}
 	if err != nil {
 		return nil, err
 	}
-	res := &BootstrapResult{Method: plan.method(), Seed: opts.Seed, Estimate: plan.estimate(),
+	res := &BootstrapResult{Method: plan.method(), Seed: opts.Seed, Family: fam, Estimate: plan.estimate(),
 		Replicates: make([]Params, opts.Replicates)}
 	res.Jackknife, res.JackknifeWeights, res.Units = plan.jackknife()
 
@@ -159,36 +146,22 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 			opts.Progress(finished, B)
 		}
 	}
-	for _, p := range res.Replicates {
-		switch {
-		case math.IsInf(p.K, 1):
-			res.PoissonLimit++
-		case math.IsNaN(p.K):
-			res.FailedFits++
-		}
-	}
+	res.Unbounded, res.FailedFits = CountUnbounded(res.Replicates)
 	return res, nil
 }
 
-// fitParams is the (R, k) fit used inside the bootstrap: K = +Inf in the Poisson limit,
-// NaN if the root search failed. Zero counts are allowed; n must be ≥ 1.
-func fitParams(values, counts []int) Params {
-	n, sum := 0.0, 0.0
-	for i, x := range values {
-		n += float64(counts[i])
-		sum += float64(counts[i]) * float64(x)
+// CountUnbounded counts the parameter vectors with an entry at +Inf and, among the others,
+// those with an entry NaN (failed fits).
+func CountUnbounded(ps []Params) (unbounded, failed int) {
+	for _, p := range ps {
+		switch {
+		case slices.ContainsFunc(p, func(v float64) bool { return math.IsInf(v, 1) }):
+			unbounded++
+		case slices.ContainsFunc(p, math.IsNaN):
+			failed++
+		}
 	}
-	if n == 0 {
-		return Params{R: math.NaN(), K: math.NaN()}
-	}
-	k, finite, err := nbDispersion(values, counts, n, sum)
-	switch {
-	case err != nil:
-		k = math.NaN()
-	case !finite:
-		k = math.Inf(1)
-	}
-	return Params{R: sum / n, K: k}
+	return unbounded, failed
 }
 
 type resamplePlan interface {
@@ -203,21 +176,22 @@ type casePlan struct {
 	t    FreqTable
 	n    int
 	cond []float64
+	fam  Family
 }
 
-func newCasePlan(t FreqTable) (*casePlan, error) {
+func newCasePlan(t FreqTable, fam Family) (*casePlan, error) {
 	if _, _, _, err := checkTable(t); err != nil {
 		return nil, fmt.Errorf("bootstrap: %w", err)
 	}
-	return &casePlan{t: t, n: t.N(), cond: numeric.ConditionalShares(t.Counts)}, nil
+	return &casePlan{t: t, n: t.N(), cond: numeric.ConditionalShares(t.Counts), fam: fam}, nil
 }
 
 func (p *casePlan) method() string    { return CaseResampling }
-func (p *casePlan) estimate() Params  { return fitParams(p.t.Values, p.t.Counts) }
+func (p *casePlan) estimate() Params  { return p.fam.FitCounts(p.t.Values, p.t.Counts) }
 func (p *casePlan) newScratch() []int { return make([]int, len(p.t.Values)) }
 func (p *casePlan) replicate(rng *rand.Rand, counts []int) Params {
 	numeric.Multinomial(rng, p.n, p.cond, counts)
-	return fitParams(p.t.Values, counts)
+	return p.fam.FitCounts(p.t.Values, counts)
 }
 
 func (p *casePlan) jackknife() ([]Params, []float64, int) {
@@ -229,7 +203,7 @@ func (p *casePlan) jackknife() ([]Params, []float64, int) {
 			continue
 		}
 		counts[i]--
-		vals = append(vals, fitParams(p.t.Values, counts))
+		vals = append(vals, p.fam.FitCounts(p.t.Values, counts))
 		w = append(w, float64(c))
 		counts[i]++
 	}
@@ -241,9 +215,10 @@ type clusterPlan struct {
 	idx    [][]int // idx[c][j]: position in values of cluster c's j-th value
 	counts [][]int
 	total  []int // summed table
+	fam    Family
 }
 
-func newClusterPlan(clusters []FreqTable) (*clusterPlan, error) {
+func newClusterPlan(clusters []FreqTable, fam Family) (*clusterPlan, error) {
 	all := map[int]int{}
 	for ci, c := range clusters {
 		if len(c.Values) != len(c.Counts) {
@@ -269,7 +244,7 @@ func newClusterPlan(clusters []FreqTable) (*clusterPlan, error) {
 	for i, v := range total.Values {
 		pos[v] = i
 	}
-	p := &clusterPlan{values: total.Values, total: total.Counts}
+	p := &clusterPlan{values: total.Values, total: total.Counts, fam: fam}
 	for _, c := range clusters {
 		ix := make([]int, len(c.Values))
 		for j, v := range c.Values {
@@ -282,7 +257,7 @@ func newClusterPlan(clusters []FreqTable) (*clusterPlan, error) {
 }
 
 func (p *clusterPlan) method() string    { return ClusterResampling }
-func (p *clusterPlan) estimate() Params  { return fitParams(p.values, p.total) }
+func (p *clusterPlan) estimate() Params  { return p.fam.FitCounts(p.values, p.total) }
 func (p *clusterPlan) newScratch() []int { return make([]int, len(p.values)) }
 func (p *clusterPlan) replicate(rng *rand.Rand, counts []int) Params {
 	clear(counts)
@@ -293,7 +268,7 @@ func (p *clusterPlan) replicate(rng *rand.Rand, counts []int) Params {
 			counts[i] += p.counts[c][j]
 		}
 	}
-	return fitParams(p.values, counts)
+	return p.fam.FitCounts(p.values, counts)
 }
 
 func (p *clusterPlan) jackknife() ([]Params, []float64, int) {
@@ -304,7 +279,7 @@ func (p *clusterPlan) jackknife() ([]Params, []float64, int) {
 		for j, i := range p.idx[c] {
 			counts[i] -= p.counts[c][j]
 		}
-		vals[c] = fitParams(p.values, counts) // NaN when the only cluster is left out
+		vals[c] = p.fam.FitCounts(p.values, counts) // NaN when the only cluster is left out
 		w[c] = 1
 		for j, i := range p.idx[c] {
 			counts[i] += p.counts[c][j]
@@ -314,8 +289,7 @@ func (p *clusterPlan) jackknife() ([]Params, []float64, int) {
 }
 
 // Interval is a two-sided bootstrap confidence interval for one statistic.
-// An infinite bound means unbounded (for k: compatible with the Poisson limit); it is
-// written as null in JSON.
+// An infinite bound means unbounded (for k: compatible with the Poisson limit).
 type Interval struct {
 	Estimate   float64
 	Level      float64
@@ -331,25 +305,8 @@ type Interval struct {
 	Dropped int
 }
 
-// MarshalJSON writes infinite bounds and non-finite numbers as null.
-func (iv Interval) MarshalJSON() ([]byte, error) {
-	pair := func(a [2]float64) [2]*float64 { return [2]*float64{numeric.FinitePtr(a[0]), numeric.FinitePtr(a[1])} }
-	return json.Marshal(struct {
-		Estimate     *float64    `json:"estimate"`
-		Level        float64     `json:"level"`
-		Percentile   [2]*float64 `json:"percentile"`
-		BCa          [2]*float64 `json:"bca"`
-		BCaFallback  bool        `json:"bca_fallback"`
-		Note         string      `json:"note,omitempty"`
-		Bias         *float64    `json:"bias_z0"`
-		Acceleration *float64    `json:"acceleration"`
-		Dropped      int         `json:"dropped"`
-	}{numeric.FinitePtr(iv.Estimate), iv.Level, pair(iv.Percentile), pair(iv.BCa), iv.BCaFallback,
-		iv.Note, numeric.FinitePtr(iv.Bias), numeric.FinitePtr(iv.Acceleration), iv.Dropped})
-}
-
 // Interval computes the percentile and BCa intervals at the given level (e.g. 0.95) for
-// stat(R, k), whose value at the estimate is estimate, from the replicates [Efron 1987,
+// stat(parameters), whose value at the estimate is estimate, from the replicates [Efron 1987,
 // JASA 82:171; Davison & Hinkley 1997, Bootstrap Methods and their Application, §5.3].
 //
 // Percentile: the α and 1−α quantiles of the replicate values, α = (1 − level)/2, each the

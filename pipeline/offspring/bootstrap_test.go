@@ -1,12 +1,10 @@
 package offspring
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
 	"sort"
-	"strings"
 	"testing"
 )
 
@@ -76,8 +74,8 @@ func TestBootstrapAgainstBoot(t *testing.T) {
 			if ref(t, r, j.ds, "boot_"+j.q+"_infinite") != 0 {
 				t.Skip("R's replicates include infinite k; boot drops them, so the intervals are not comparable")
 			}
-			if res.PoissonLimit > 0 && j.q == "k" {
-				t.Fatalf("%d Poisson-limit replicates where R had none", res.PoissonLimit)
+			if res.Unbounded > 0 && j.q == "k" {
+				t.Fatalf("%d Poisson-limit replicates where R had none", res.Unbounded)
 			}
 			iv, err := res.Interval(j.stat, j.stat(res.Estimate), 0.95)
 			if err != nil {
@@ -171,7 +169,7 @@ func TestBootstrapReproducible(t *testing.T) {
 }
 
 func sameParams(a, b Params) bool {
-	return (a.R == b.R || math.IsNaN(a.R) && math.IsNaN(b.R)) && (a.K == b.K || math.IsNaN(a.K) && math.IsNaN(b.K))
+	return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || math.IsNaN(x) && math.IsNaN(y) })
 }
 
 // TestBootstrapProgress: the callback sees increasing counts ending at the total.
@@ -217,15 +215,15 @@ func TestBootstrapVarianceOfMean(t *testing.T) {
 		}
 		var s1, s2 float64
 		for _, p := range res.Replicates {
-			s1 += p.R
-			s2 += (p.R - m) * (p.R - m)
+			s1 += p[ParamR]
+			s2 += (p[ParamR] - m) * (p[ParamR] - m)
 		}
 		got := s2 / float64(B)
 		if math.Abs(got-want) > 5*math.Sqrt(2.0/float64(B))*want {
 			t.Errorf("%s bootstrap: Var*(R*) = %.5g, want σ̂²/n = %.5g", res.Method, got, want)
 		}
-		if res.Estimate.R != m {
-			t.Errorf("%s bootstrap: estimate %g, want the mean %g", res.Method, res.Estimate.R, m)
+		if res.Estimate[ParamR] != m {
+			t.Errorf("%s bootstrap: estimate %g, want the mean %g", res.Method, res.Estimate[ParamR], m)
 		}
 	}
 }
@@ -249,8 +247,8 @@ func TestClusterJackknife(t *testing.T) {
 			}
 		}
 		tab := FromMap(m)
-		want := fitParams(tab.Values, tab.Counts)
-		if !sameParams(res.Jackknife[c], want) && relErr(res.Jackknife[c].K, want.K) > 1e-12 {
+		want := NegBinFamily{}.FitCounts(tab.Values, tab.Counts)
+		if !sameParams(res.Jackknife[c], want) && relErr(res.Jackknife[c][ParamK], want[ParamK]) > 1e-12 {
 			t.Errorf("leave out cluster %d: %+v, direct fit %+v", c, res.Jackknife[c], want)
 		}
 	}
@@ -266,22 +264,15 @@ func TestIntervalPoissonLimit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !math.IsInf(res.Estimate.K, 1) || res.PoissonLimit == 0 {
-		t.Fatalf("estimate %+v, %d Poisson-limit replicates", res.Estimate, res.PoissonLimit)
+	if !math.IsInf(res.Estimate[ParamK], 1) || res.Unbounded == 0 {
+		t.Fatalf("estimate %+v, %d Poisson-limit replicates", res.Estimate, res.Unbounded)
 	}
-	iv, err := res.Interval(StatK, res.Estimate.K, 0.95)
+	iv, err := res.Interval(StatK, res.Estimate[ParamK], 0.95)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !math.IsInf(iv.Percentile[1], 1) || !iv.BCaFallback || iv.Note == "" || iv.BCa != iv.Percentile {
 		t.Errorf("interval %+v", iv)
-	}
-	b, err := json.Marshal(iv)
-	if err != nil || !strings.Contains(string(b), "null") {
-		t.Errorf("JSON %s (%v)", b, err)
-	}
-	if _, err := json.Marshal(res); err != nil {
-		t.Errorf("result JSON: %v", err)
 	}
 }
 
@@ -293,11 +284,11 @@ func TestIntervalFallbackJackknife(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	iv, err := res.Interval(StatK, res.Estimate.K, 0.9)
+	iv, err := res.Interval(StatK, res.Estimate[ParamK], 0.9)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if math.IsInf(res.Estimate.K, 0) || !iv.BCaFallback {
+	if math.IsInf(res.Estimate[ParamK], 0) || !iv.BCaFallback {
 		t.Errorf("estimate %+v interval %+v", res.Estimate, iv)
 	}
 }
@@ -330,7 +321,7 @@ func TestBootstrapErrors(t *testing.T) {
 		t.Error("nil statistic: want an error")
 	}
 	for _, lvl := range []float64{0, 1, -0.5, math.NaN()} {
-		if _, err := res.Interval(StatR, res.Estimate.R, lvl); err == nil {
+		if _, err := res.Interval(StatR, res.Estimate[ParamR], lvl); err == nil {
 			t.Errorf("level %v: want an error", lvl)
 		}
 	}
@@ -347,12 +338,12 @@ func TestBootstrapOneCluster(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, p := range res.Replicates {
-		if p != res.Estimate {
+		if !sameParams(p, res.Estimate) {
 			t.Fatalf("replicate %+v differs from the estimate %+v", p, res.Estimate)
 		}
 	}
-	iv, err := res.Interval(StatR, res.Estimate.R, 0.95)
-	if err != nil || !iv.BCaFallback || iv.Percentile != [2]float64{res.Estimate.R, res.Estimate.R} {
+	iv, err := res.Interval(StatR, res.Estimate[ParamR], 0.95)
+	if err != nil || !iv.BCaFallback || iv.Percentile != [2]float64{res.Estimate[ParamR], res.Estimate[ParamR]} {
 		t.Errorf("interval %+v (%v)", iv, err)
 	}
 }

@@ -52,10 +52,10 @@ func runCoverage(t *testing.T, sc coverageScenario, seed uint64) coverageCounts 
 			}
 			var ivR, ivK Interval
 			if err == nil {
-				ivR, err = res.Interval(StatR, res.Estimate.R, 0.95)
+				ivR, err = res.Interval(StatR, res.Estimate[ParamR], 0.95)
 			}
 			if err == nil {
-				ivK, err = res.Interval(StatK, res.Estimate.K, 0.95)
+				ivK, err = res.Interval(StatK, res.Estimate[ParamK], 0.95)
 			}
 			mu.Lock()
 			defer mu.Unlock()
@@ -80,7 +80,7 @@ func runCoverage(t *testing.T, sc coverageScenario, seed uint64) coverageCounts 
 			if ivK.BCaFallback {
 				cc.bcaFallbackK++
 			}
-			if math.IsInf(res.Estimate.K, 1) {
+			if math.IsInf(res.Estimate[ParamK], 1) {
 				cc.limitEst++
 			}
 		}(d)

@@ -19,10 +19,10 @@ func ExampleFitAll() {
 	}
 	for _, f := range fits {
 		k := "—"
-		if f.K != nil {
-			k = fmt.Sprintf("%.3f", *f.K)
+		if v, _, ok := f.Param("k"); ok {
+			k = fmt.Sprintf("%.3f", v)
 		}
-		fmt.Printf("%-17s R=%.3f k=%s AIC=%.2f\n", f.Name, f.R, k, f.AIC)
+		fmt.Printf("%-17s R=%.3f k=%s AIC=%.2f\n", f.Name, f.R(), k, f.AIC)
 	}
 	fmt.Println("best:", best)
 	// Output:
@@ -35,8 +35,9 @@ func ExampleFitAll() {
 func ExampleFitNegBin_poissonLimit() {
 	// Variance below the mean: no finite k̂.
 	f, _ := offspring.FitNegBin(offspring.Tabulate([]int{1, 2, 2, 1, 3, 2, 1, 2}))
-	fmt.Println(f.PoissonLimit(), f.K == nil)
-	// Output: true true
+	k, _, _ := f.Param("k")
+	fmt.Println(f.AtLimit(), k, f.Distribution().Name())
+	// Output: true +Inf poisson
 }
 
 func ExampleBootstrap() {
@@ -47,8 +48,8 @@ func ExampleBootstrap() {
 		fmt.Println(err)
 		return
 	}
-	iv, _ := res.Interval(offspring.StatK, res.Estimate.K, 0.95)
-	fmt.Printf("k̂ = %.3f, 95%% BCa [%.3f, %.3f]\n", res.Estimate.K, iv.BCa[0], iv.BCa[1])
+	iv, _ := res.Interval(offspring.StatK, res.Estimate[offspring.ParamK], 0.95)
+	fmt.Printf("k̂ = %.3f, 95%% BCa [%.3f, %.3f]\n", res.Estimate[offspring.ParamK], iv.BCa[0], iv.BCa[1])
 	// Output: k̂ = 0.316, 95% BCa [0.262, 0.380]
 }
 

