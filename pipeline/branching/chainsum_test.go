@@ -1,8 +1,8 @@
 package branching
 
 import (
-	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/offspring"
 	"math"
 	"strconv"
 	"testing"
