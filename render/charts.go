@@ -611,11 +611,14 @@ func (st *renderState) chartOutlook(o *analysis.Outlook) ([]chartSpec, string, e
 	u90, u50, l50, l90, mean := make([]opts.LineData, n), make([]opts.LineData, n), make([]opts.LineData, n), make([]opts.LineData, n), make([]opts.LineData, n)
 	for i, p := range o.Projection {
 		labels[i] = "+" + strconv.Itoa(p.Generation)
-		u90[i] = opts.LineData{Value: p.P90[1]}
-		u50[i] = opts.LineData{Value: p.P50[1]}
-		l50[i] = opts.LineData{Value: p.P50[0]}
-		l90[i] = opts.LineData{Value: p.P90[0]}
-		mean[i] = opts.LineData{Value: round(f.v(p.Mean, "a projected mean"), 2)}
+		u90[i] = opts.LineData{Value: countValue(p.P90[1])}
+		u50[i] = opts.LineData{Value: countValue(p.P50[1])}
+		l50[i] = opts.LineData{Value: countValue(p.P50[0])}
+		l90[i] = opts.LineData{Value: countValue(p.P90[0])}
+		mean[i] = opts.LineData{Value: "-"}
+		if p.Mean != nil {
+			mean[i].Value = round(f.v(*p.Mean, "a projected mean"), 2)
+		}
 	}
 	line := charts.NewLine()
 	line.SetGlobalOptions(append(baseOpts(id, chartHeight, "axis", false),

@@ -168,7 +168,7 @@ func setEveryString(v reflect.Value, p string) int {
 func hostileFixture(p string) (*analysis.Summary, int) {
 	s := fixtureSummary()
 	s.Scope = &analysis.Scope{Column: "jurisdiction", Value: "Ostvale"}
-	s.Problems = []linelist.Problem{
+	s.Problems = []analysis.Problem{
 		{Row: 17, Column: "case_id", Code: linelist.CodeDuplicateID, Severity: linelist.SeverityError, Message: "seen before"},
 		{Row: 23, Column: "infector_id", Code: linelist.CodeUnknownInfector, Severity: linelist.SeverityWarning, Message: "no such case"},
 	}

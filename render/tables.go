@@ -47,6 +47,18 @@ func (f cellFmt) int(n int) string {
 	return formatNumber(float64(n), 0)
 }
 
+// countRange is a prediction interval of counts, "lo to hi"; a bound beyond the computed
+// range reads "beyond reach".
+func (f cellFmt) countRange(b [2]*int) string {
+	end := func(p *int) string {
+		if p == nil {
+			return "beyond reach"
+		}
+		return f.int(*p)
+	}
+	return end(b[0]) + " to " + end(b[1])
+}
+
 func (f cellFmt) interval(b [2]*float64, digits int) string {
 	if b[0] == nil && b[1] == nil {
 		return ""
@@ -207,8 +219,8 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 		t.Header = []string{"Generations ahead", "Expected cases", "50% prediction interval", "90% prediction interval", "Chance of no cases"}
 		t.Numeric = []bool{true, true, true, true, true}
 		for _, p := range s.Outlook.Projection {
-			t.Rows = append(t.Rows, []string{f.int(p.Generation), f.num(p.Mean, 1),
-				f.int(p.P50[0]) + " to " + f.int(p.P50[1]), f.int(p.P90[0]) + " to " + f.int(p.P90[1]), f.num(p.PZero, 3)})
+			t.Rows = append(t.Rows, []string{f.int(p.Generation), f.numPtr(p.Mean, 1),
+				f.countRange(p.P50), f.countRange(p.P90), f.num(p.PZero, 3)})
 		}
 	case "age_mixing":
 		a := s.AgeMixing

@@ -163,6 +163,17 @@ func fmtNum(p *float64, digits int) string {
 	return strconv.FormatFloat(*p, 'f', digits, 64)
 }
 
+// fmtCounts prints a prediction interval of counts; a bound beyond the computed range is "?".
+func fmtCounts(b [2]*int) string {
+	end := func(p *int) string {
+		if p == nil {
+			return "?"
+		}
+		return strconv.Itoa(*p)
+	}
+	return end(b[0]) + "–" + end(b[1])
+}
+
 func fmtInterval(e analysis.Estimate, which string, digits int) string {
 	iv := e.Percentile
 	if which == analysis.IntervalBCa {
@@ -238,7 +249,7 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 		fmt.Fprintf(w, "  share causing 80%% (by ν)             %s\n", fmtInterval(ol.ShareCausing80pct, st.Interval, 3))
 		fmt.Fprintf(w, "  cases still able to transmit         %d\n", ol.Active)
 		for _, p := range ol.Projection {
-			fmt.Fprintf(w, "  generation %d: mean %.1f, 50%% %d–%d, 90%% %d–%d, P(none) %.2f\n", p.Generation, p.Mean, p.P50[0], p.P50[1], p.P90[0], p.P90[1], p.PZero)
+			fmt.Fprintf(w, "  generation %d: mean %s, 50%% %s, 90%% %s, P(none) %.2f\n", p.Generation, fmtNum(p.Mean, 1), fmtCounts(p.P50), fmtCounts(p.P90), p.PZero)
 		}
 	}
 	printNotes(w, s)

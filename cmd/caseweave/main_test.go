@@ -214,3 +214,15 @@ func TestOutlookJSONModel(t *testing.T) {
 		}
 	}
 }
+
+// A prediction bound beyond the decoded range is null in the summary and never a number on
+// the terminal (it once printed as "-1").
+func TestFmtCountsMissingBound(t *testing.T) {
+	lo := 3
+	if got := fmtCounts([2]*int{&lo, nil}); got != "3–?" {
+		t.Errorf("fmtCounts = %q, want 3–?", got)
+	}
+	if got := fmtCounts([2]*int{nil, nil}); strings.Contains(got, "-1") {
+		t.Errorf("fmtCounts = %q", got)
+	}
+}

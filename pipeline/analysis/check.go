@@ -28,10 +28,14 @@ func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf lin
 			Used: len(ll.Cases), Rejected: ll.Rejected,
 		},
 	}
-	s.Problems = make([]linelist.Problem, 0, len(ll.Problems)+len(f.Problems))
-	s.Problems = append(s.Problems, ll.Problems...)
-	s.Problems = append(s.Problems, f.Problems...)
-	linelist.SortProblems(s.Problems)
+	all := make([]linelist.Problem, 0, len(ll.Problems)+len(f.Problems))
+	all = append(all, ll.Problems...)
+	all = append(all, f.Problems...)
+	linelist.SortProblems(all)
+	s.Problems = make([]Problem, len(all))
+	for i, p := range all {
+		s.Problems[i] = Problem{Row: p.Row, Column: p.Column, Code: p.Code, Severity: p.Severity, Message: p.Message}
+	}
 	s.ProblemCounts = countProblems(s.Problems)
 	s.Tree = TreeStats(ll.Cases, f)
 	return s
@@ -51,7 +55,7 @@ func TreeStats(cases []linelist.Case, f *forest.Forest) Tree {
 	return t
 }
 
-func countProblems(ps []linelist.Problem) []ProblemCount {
+func countProblems(ps []Problem) []ProblemCount {
 	byCode := map[linelist.Code]*ProblemCount{}
 	for _, p := range ps {
 		pc := byCode[p.Code]

@@ -56,7 +56,7 @@ func (s *Summary) Pseudonymised(key string) *Summary {
 		}
 		c.Clusters = &cl
 	}
-	c.Problems = make([]linelist.Problem, len(s.Problems))
+	c.Problems = make([]Problem, len(s.Problems))
 	for i, p := range s.Problems {
 		p.Message = ProblemMeaning(p.Code)
 		c.Problems[i] = p

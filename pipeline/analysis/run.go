@@ -582,12 +582,8 @@ func (a *run) outlook() {
 		a.note("No projection: %v.", err)
 	} else {
 		for _, g := range pr.Generations {
-			p := Projection{Generation: g.N, PZero: g.PZero}
-			if g.Mean != nil {
-				p.Mean = *g.Mean
-			}
-			p.P50 = [2]int{deref(g.Interval50.Lo), deref(g.Interval50.Hi)}
-			p.P90 = [2]int{deref(g.Interval90.Lo), deref(g.Interval90.Hi)}
+			p := Projection{Generation: g.N, PZero: g.PZero, Mean: g.Mean,
+				P50: [2]*int{g.Interval50.Lo, g.Interval50.Hi}, P90: [2]*int{g.Interval90.Lo, g.Interval90.Hi}}
 			ol.Projection = append(ol.Projection, p)
 		}
 	}
@@ -595,13 +591,6 @@ func (a *run) outlook() {
 		ol.ChainSize = cs.PMF
 	}
 	a.s.Outlook = ol
-}
-
-func deref(p *int) int {
-	if p == nil {
-		return -1
-	}
-	return *p
 }
 
 func (a *run) endOfOutbreak() {

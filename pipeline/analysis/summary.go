@@ -17,7 +17,7 @@ type Summary struct {
 	Settings RunSettings  `json:"settings"`
 
 	Input         Input              `json:"input"`
-	Problems      []linelist.Problem `json:"problems"`
+	Problems      []Problem          `json:"problems"`
 	ProblemCounts []ProblemCount     `json:"problem_counts"`
 	Tree          Tree               `json:"tree"`
 
@@ -70,6 +70,16 @@ type Input struct {
 	Rows     int    `json:"rows"`
 	Used     int    `json:"used"`
 	Rejected int    `json:"rejected"`
+}
+
+// Problem is one thing wrong with the input: Row is the physical line of the file (header =
+// line 1; 0 for the file as a whole), Column the canonical column concerned ("" for the row).
+type Problem struct {
+	Row      int               `json:"row"`
+	Column   string            `json:"column"`
+	Code     linelist.Code     `json:"code"`
+	Severity linelist.Severity `json:"severity"`
+	Message  string            `json:"message"`
 }
 
 // ProblemCount is the tally of one problem code, with the first few line numbers.
@@ -215,13 +225,14 @@ type Outlook struct {
 }
 
 // Projection is the predictive distribution of one future generation's case count, mixed
-// over bootstrap replicates; P50 and P90 are central prediction intervals.
+// over bootstrap replicates. P50 and P90 are central prediction intervals; a bound is null
+// when it lies beyond the counts the decoding covered, and Mean is null when it overflows.
 type Projection struct {
-	Generation int     `json:"generation"`
-	Mean       float64 `json:"mean"`
-	P50        [2]int  `json:"p50"`
-	P90        [2]int  `json:"p90"`
-	PZero      float64 `json:"p_zero"`
+	Generation int      `json:"generation"`
+	Mean       *float64 `json:"mean"`
+	P50        [2]*int  `json:"p50"`
+	P90        [2]*int  `json:"p90"`
+	PZero      float64  `json:"p_zero"`
 }
 
 // SerialInterval is the fitted serial-interval distribution (DOMAIN.md §5).

@@ -30,16 +30,16 @@ const (
 // transmission chain started by one case.
 type ChainSizeDistribution struct {
 	// PMF[i] = P(Y = i + 1).
-	PMF []float64 `json:"pmf"`
+	PMF []float64
 	// Mean is 1/(1 − R) for R < 1, nil otherwise (Y is infinite with probability 1 − q > 0
 	// for R > 1, and has infinite mean at R = 1).
-	Mean *float64 `json:"mean"`
+	Mean *float64
 	// TruncatedMass = q − Σ PMF: the probability of a finite chain longer than the list.
 	// The remaining 1 − q is the probability of a chain that never ends.
-	TruncatedMass float64 `json:"truncated_mass"`
+	TruncatedMass float64
 	// Extinction is q = Σ_{y<∞} P(Y = y).
-	Extinction float64 `json:"extinction_probability"`
-	Method     string  `json:"method"`
+	Extinction float64
+	Method     string
 }
 
 // ChainSizes returns the chain-size distribution from one root, listing at most maxSize

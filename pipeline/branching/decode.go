@@ -41,21 +41,21 @@ const (
 
 // GenerationDistribution is the distribution of the number of cases X_n in generation n.
 type GenerationDistribution struct {
-	N int `json:"n"`
+	N int
 	// PZero = P(X_n = 0), computed directly as G_n(0)^a (not decoded).
-	PZero float64 `json:"p_zero"`
+	PZero float64
 	// Mean and Variance are the closed forms (nil when they overflow a float64).
-	Mean     *float64 `json:"mean"`
-	Variance *float64 `json:"variance"`
+	Mean     *float64
+	Variance *float64
 	// PMF[j] = P(X_n = j) for j < len(PMF); PMF[0] = PZero.
-	PMF []float64 `json:"pmf"`
+	PMF []float64
 	// Support is the truncation point of the FFT decoding: values j ≥ Support were never
 	// decoded. len(PMF) ≤ Support (trailing mass below TrimMass is dropped).
-	Support int `json:"support"`
+	Support int
 	// FFTPoints is the number M of points on the circle (Support = M/2).
-	FFTPoints int `json:"fft_points"`
+	FFTPoints int
 	// TruncatedMass = 1 − Σ PMF: probability of a count beyond the list.
-	TruncatedMass float64 `json:"truncated_mass"`
+	TruncatedMass float64
 }
 
 // GenerationMoments returns the mean and variance of X_n from a cases for an offspring

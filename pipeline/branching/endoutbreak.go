@@ -15,15 +15,15 @@ const MaxEndOfOutbreakHorizon = 100_000
 // EndOfOutbreakResult is the end-of-outbreak probability curve.
 type EndOfOutbreakResult struct {
 	// Days[i] = from + i; Probability[i] = P(no further cases after Days[i]).
-	Days        []int     `json:"days"`
-	Probability []float64 `json:"probability"`
+	Days        []int
+	Probability []float64
 	// Day95 and Day99 are the first days the probability reaches 0.95 and 0.99, nil if it
 	// does not within the horizon.
-	Day95 *int `json:"day_95"`
-	Day99 *int `json:"day_99"`
+	Day95 *int
+	Day99 *int
 	// Cases and DistinctDays count the onsets used.
-	Cases        int `json:"cases"`
-	DistinctDays int `json:"distinct_days"`
+	Cases        int
+	DistinctDays int
 }
 
 // EndOfOutbreak is the probability that no further cases follow, on days from..from+horizon,

@@ -13,21 +13,21 @@ import (
 // ChainObservation is one observed transmission chain (cluster).
 type ChainObservation struct {
 	// Size is the number of cases in the cluster, root included (≥ 1).
-	Size int `json:"size"`
+	Size int
 	// Censored marks a cluster that may still grow: it contributes P(Y ≥ Size).
-	Censored bool `json:"censored"`
+	Censored bool
 }
 
 // ChainFit is a maximum-likelihood fit of the negative binomial chain-size model.
 type ChainFit struct {
-	R float64 `json:"R"`
+	R float64
 	// K is nil in the Poisson limit (k → ∞, Borel chain sizes) and when R = 0.
-	K *float64 `json:"k"`
+	K *float64
 	// PoissonLimit is set when the negative binomial does not improve on Poisson offspring.
-	PoissonLimit bool    `json:"poisson_limit"`
-	LogLik       float64 `json:"log_likelihood"`
-	Clusters     int     `json:"clusters"`
-	Censored     int     `json:"censored"`
+	PoissonLimit bool
+	LogLik       float64
+	Clusters     int
+	Censored     int
 	// borelR is the Borel (Poisson-offspring) optimum, kept as a start for refits.
 	borelR float64
 }
@@ -345,21 +345,21 @@ func fitTable(t *chainTable, starts *fitStarts) (*ChainFit, error) {
 // ChainBootstrap holds cluster-bootstrap replicates of a chain-size fit and their
 // percentile intervals.
 type ChainBootstrap struct {
-	Replicates int     `json:"replicates"`
-	Level      float64 `json:"level"`
-	RLo        float64 `json:"R_lo"`
-	RHi        float64 `json:"R_hi"`
+	Replicates int
+	Level      float64
+	RLo        float64
+	RHi        float64
 	// KLo and KHi are nil when the bound lies in the Poisson limit (k = ∞).
-	KLo *float64 `json:"k_lo"`
-	KHi *float64 `json:"k_hi"`
+	KLo *float64
+	KHi *float64
 	// PoissonLimit counts replicates whose fit hit the Poisson limit; Failed counts
 	// replicates whose fit failed (left out of the intervals).
-	PoissonLimit int `json:"poisson_limit_replicates"`
-	Failed       int `json:"failed_replicates"`
+	PoissonLimit int
+	Failed       int
 	// R and K are the per-replicate estimates (K = +Inf in the Poisson limit; NaN when
 	// failed). They are not serialised.
-	R []float64 `json:"-"`
-	K []float64 `json:"-"`
+	R []float64
+	K []float64
 }
 
 // BootstrapChainFit refits the chain-size model to B cluster-bootstrap resamples (whole
@@ -491,13 +491,13 @@ func ChainFitCost(obs []ChainObservation) (int, error) {
 // practice for positive parameters]. They stand in for the cluster bootstrap when
 // that would be too expensive (very large censored clusters).
 type ChainWaldIntervals struct {
-	Level float64 `json:"level"`
-	RLo   float64 `json:"R_lo"`
-	RHi   float64 `json:"R_hi"`
+	Level float64
+	RLo   float64
+	RHi   float64
 	// KLo and KHi are nil in the Poisson limit, or when the information about k is not
 	// positive.
-	KLo *float64 `json:"k_lo"`
-	KHi *float64 `json:"k_hi"`
+	KLo *float64
+	KHi *float64
 }
 
 // WaldChainFit computes ChainWaldIntervals at the given level for fit, the maximum-likelihood

@@ -11,29 +11,29 @@ import (
 // (1 − Level)/2 quantile and Hi the (1 + Level)/2 quantile of the decoded PMF (the smallest
 // j with P(X ≤ j) ≥ p). A bound is nil when it lies beyond the decoded support.
 type PredictionInterval struct {
-	Level float64 `json:"level"`
-	Lo    *int    `json:"lo"`
-	Hi    *int    `json:"hi"`
+	Level float64
+	Lo    *int
+	Hi    *int
 }
 
 // ProjectedGeneration is the predictive distribution of the count in one generation.
 type ProjectedGeneration struct {
-	N     int     `json:"n"`
-	PZero float64 `json:"p_zero"`
+	N     int
+	PZero float64
 	// Mean = (1/B)·Σ_b a·R_b^n, nil when it overflows.
-	Mean          *float64           `json:"mean"`
-	PMF           []float64          `json:"pmf"`
-	Interval50    PredictionInterval `json:"interval_50"`
-	Interval90    PredictionInterval `json:"interval_90"`
-	Support       int                `json:"support"`
-	TruncatedMass float64            `json:"truncated_mass"`
+	Mean          *float64
+	PMF           []float64
+	Interval50    PredictionInterval
+	Interval90    PredictionInterval
+	Support       int
+	TruncatedMass float64
 }
 
 // Projection is the predictive distribution of the next generations' counts.
 type Projection struct {
-	Active      int                   `json:"active"`
-	Replicates  int                   `json:"replicates"`
-	Generations []ProjectedGeneration `json:"generations"`
+	Active      int
+	Replicates  int
+	Generations []ProjectedGeneration
 }
 
 // Project returns the predictive distribution of X_1..X_N from `active` cases, mixing over

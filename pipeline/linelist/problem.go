@@ -35,11 +35,11 @@ const (
 // physical line on which the record starts, counting the header as line 1, as encoding/csv
 // counts lines; Row is 0 for a problem with the file as a whole.
 type Problem struct {
-	Row      int      `json:"row"`
-	Column   string   `json:"column"`
-	Code     Code     `json:"code"`
-	Severity Severity `json:"severity"`
-	Message  string   `json:"message"`
+	Row      int
+	Column   string
+	Code     Code
+	Severity Severity
+	Message  string
 }
 
 func (p Problem) String() string {

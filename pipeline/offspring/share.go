@@ -54,8 +54,8 @@ func ConcentrationShare(values []int, weights []float64, target float64) float64
 // ConcentrationPoint is one point of a concentration curve: the top CaseShare of cases
 // (ranked by offspring, largest first) caused TransmissionShare of all secondary cases.
 type ConcentrationPoint struct {
-	CaseShare         float64 `json:"case_share"`
-	TransmissionShare float64 `json:"transmission_share"`
+	CaseShare         float64
+	TransmissionShare float64
 }
 
 // ConcentrationCurve returns the piecewise-linear concentration curve of a frequency table,

@@ -17,59 +17,59 @@ const NegativeTreatment = "excluded from the parametric fit"
 
 // ModelFit is one family's interval-censored maximum-likelihood fit.
 type ModelFit struct {
-	Name   string             `json:"name"`
-	Mean   float64            `json:"mean"`
-	SD     float64            `json:"sd"`
-	Params map[string]float64 `json:"params"`
+	Name   string
+	Mean   float64
+	SD     float64
+	Params map[string]float64
 	// LogLik is Σ_d n_d·log(F(d + 0.5) − F(max(d − 0.5, 0))) at the maximum.
-	LogLik float64 `json:"loglik"`
+	LogLik float64
 	// AIC = 2·2 − 2·LogLik (two parameters) [Akaike 1974, IEEE Trans Autom Control 19:716].
-	AIC float64 `json:"aic"`
+	AIC float64
 	// AtBound is true when the optimum sits on the edge of the search box on the
 	// log-parameter scale: the data (typically all in one or two daily bins) do not pin
 	// the distribution down and the likelihood keeps rising towards a degenerate limit.
-	AtBound bool `json:"at_bound,omitempty"`
+	AtBound bool
 	// Degenerate is true when the intervals fill one daily bin or two adjacent ones: then
 	// a distribution shrinking to a point reaches the saturated likelihood, no finite
 	// maximum exists, and the parameters are where the optimiser stopped. Only the mean
 	// is then meaningful; the spread and quantiles are not.
-	Degenerate bool `json:"degenerate,omitempty"`
+	Degenerate bool
 	// Dist is the fitted distribution.
-	Dist SerialInterval `json:"-"`
+	Dist SerialInterval
 }
 
 // Quantiles of the best-fitting serial interval, in days.
 type Quantiles struct {
-	P50 float64 `json:"p50"`
-	P95 float64 `json:"p95"`
-	P99 float64 `json:"p99"`
+	P50 float64
+	P95 float64
+	P99 float64
 }
 
 // BootstrapInfo describes the case bootstrap behind the confidence intervals.
 type BootstrapInfo struct {
-	Replicates int     `json:"replicates"`
-	Failed     int     `json:"failed"`
-	Level      float64 `json:"level"`
-	Method     string  `json:"method"`
+	Replicates int
+	Failed     int
+	Level      float64
+	Method     string
 }
 
 // SerialFit is the serial-interval section of the JSON summary.
 type SerialFit struct {
 	// N is the number of intervals used in the fit (the non-negative ones).
-	N int `json:"n"`
+	N int
 	// Negative is the number of negative intervals, treated as NegativeTreatment says.
-	Negative          int        `json:"negative"`
-	NegativeTreatment string     `json:"negative_treatment"`
-	BestModel         string     `json:"best_model"`
-	Models            []ModelFit `json:"models"`
-	Quantiles         Quantiles  `json:"quantiles"`
+	Negative          int
+	NegativeTreatment string
+	BestModel         string
+	Models            []ModelFit
+	Quantiles         Quantiles
 	// MeanCI and P95CI are percentile bootstrap intervals for the best model's mean and
 	// 95th percentile; absent when no bootstrap was asked for or every replicate failed.
-	MeanCI    []float64      `json:"mean_ci,omitempty"`
-	P95CI     []float64      `json:"p95_ci,omitempty"`
-	Bootstrap *BootstrapInfo `json:"bootstrap,omitempty"`
+	MeanCI    []float64
+	P95CI     []float64
+	Bootstrap *BootstrapInfo
 	// Best is the best model's distribution (lowest AIC).
-	Best SerialInterval `json:"-"`
+	Best SerialInterval
 }
 
 // FitOptions control FitSerialInterval's bootstrap.

@@ -14,10 +14,10 @@ import (
 type InferredLinks struct {
 	// Inferred is the number of non-imported cases without a recorded infector that have
 	// at least one candidate infector; each spreads one unit of offspring over them.
-	Inferred int `json:"inferred"`
+	Inferred int
 	// NoCandidate is the number of such cases with no candidate (no earlier case in the
 	// group within the window): they stay roots.
-	NoCandidate int `json:"no_candidate"`
+	NoCandidate int
 }
 
 // Infectors holds Wallinga–Teunis infector probabilities for the cases without a recorded

@@ -12,14 +12,14 @@ import (
 // WeekR is one ISO week's reproduction number from the tree: the mean offspring count of
 // the cases whose onset falls in the week.
 type WeekR struct {
-	WeekStart linelist.Day `json:"week_start"` // the Monday, YYYY-MM-DD in JSON
-	Cases     int          `json:"cases"`
-	R         float64      `json:"R"`
-	Lower     float64      `json:"lower"`
-	Upper     float64      `json:"upper"`
+	WeekStart linelist.Day // the Monday, YYYY-MM-DD in JSON
+	Cases     int
+	R         float64
+	Lower     float64
+	Upper     float64
 	// Censored is true when the week has days within Window days before the analysis
 	// date: those cases may still infect others, so R is biased low.
-	Censored bool `json:"censored"`
+	Censored bool
 }
 
 // WeeklyOptions configure WeeklyR.
@@ -41,12 +41,12 @@ type WeeklyOptions struct {
 
 // WeeklyResult is the weekly R series and how its intervals were made.
 type WeeklyResult struct {
-	Weeks []WeekR `json:"weeks"`
+	Weeks []WeekR
 	// K is the dispersion used; 0 with PoissonLimit true means k = ∞.
-	K            float64 `json:"k"`
-	PoissonLimit bool    `json:"poisson_limit"`
-	Level        float64 `json:"level"`
-	Method       string  `json:"interval_method"`
+	K            float64
+	PoissonLimit bool
+	Level        float64
+	Method       string
 }
 
 // WeeklyIntervalMethod describes WeeklyR's intervals in the summary.
