@@ -216,7 +216,7 @@ func TestOutlookJSONModel(t *testing.T) {
 }
 
 // A prediction bound beyond the decoded range is null in the summary and never a number on
-// the terminal (it once printed as "-1").
+// the terminal, never a sentinel such as -1.
 func TestFmtCountsMissingBound(t *testing.T) {
 	lo := 3
 	if got := fmtCounts([2]*int{&lo, nil}); got != "3–?" {
