@@ -64,7 +64,6 @@ type page struct {
 	slug, value string
 	html, json  []byte
 	pdf         []byte
-	summary     *analysis.Summary
 	tables      *analysis.Summary
 }
 
@@ -172,7 +171,7 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 		}
 		return page{}, withCode(exitOutput, err)
 	}
-	p.html, p.summary, p.tables = html, s, shown
+	p.html, p.tables = html, shown
 	if p.json, err = marshalJSON(shown); err != nil {
 		return page{}, withCode(exitOutput, err)
 	}

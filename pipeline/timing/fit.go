@@ -196,13 +196,6 @@ func FitFamily(name string, intervals []int) (ModelFit, error) {
 	return ModelFit{}, fmt.Errorf("serial interval: unknown family %q (want %s, %s or %s)", name, NameGamma, NameLogNormal, NameWeibull)
 }
 
-// CensoredLogLik is the daily-interval-censored log-likelihood of si for the non-negative
-// intervals (negative ones are skipped), as maximised by FitSerialInterval.
-func CensoredLogLik(si SerialInterval, intervals []int) float64 {
-	tab, _ := tabulateIntervals(intervals)
-	return logLik(si, tab.values, tab.counts)
-}
-
 // intervalTable is the frequency table of non-negative intervals.
 type intervalTable struct {
 	values []int
