@@ -52,7 +52,7 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 	fl.StringVarP(&f.out, "output", "o", "", "report file to write (default report.html; with --by, a directory, default reports)")
 	fl.StringVar(&f.jsonOut, "json", "", "also write the summary JSON to FILE")
 	fl.StringVar(&f.tablesDir, "tables", "", "also write each table of the report as CSV into DIR")
-	fl.StringVar(&f.by, "by", "", "one report per value of this column: jurisdiction, setting or age_group")
+	fl.StringVar(&f.by, "by", "", "one report per value of this column: "+strings.Join(linelist.StratumColumns(), ", "))
 	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
 	fl.IntVar(&f.incub, "incubation-days", 0, "longest incubation period in days, for the end-of-outbreak rule of thumb (overrides the template config's incubation_days)")
 	fl.BoolVar(&f.showIDs, "show-ids", false, "print case identifiers as they are instead of pseudonyms")
@@ -68,8 +68,9 @@ type page struct {
 }
 
 func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
-	if f.by != "" && !isStratumColumn(f.by) {
-		return usageErrorf("--by must be jurisdiction, setting or age_group, got %q", f.by)
+	byCol, ok := stratumColumn(f.by)
+	if f.by != "" && !ok {
+		return usageErrorf("--by must be one of %s, got %q", strings.Join(linelist.StratumColumns(), ", "), f.by)
 	}
 	tmplRoot, err := openTemplateDir(f.template)
 	if err != nil {
@@ -100,9 +101,8 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 				fallback = templates.Default()
 			}
 		}
-		for _, v := range strataValues(ld.list.Cases, f.by) {
-			v := v
-			sel := func(cs *linelist.Case) bool { return stratumValue(cs, f.by) == v }
+		for _, v := range strataValues(ld.list.Cases, byCol) {
+			sel := func(cs *linelist.Case) bool { return byCol.Stratum(cs) == v }
 			fsys := fallback
 			if f.template != "" {
 				if sub, ok := valueTemplate(f.template, slug(v)); ok {
@@ -301,24 +301,17 @@ func valueTemplate(dir, slug string) (fs.FS, bool) {
 	return fsys, true
 }
 
-func isStratumColumn(c string) bool {
-	return c == linelist.ColJurisdiction || c == linelist.ColSetting || c == linelist.ColAgeGroup
+// stratumColumn is the descriptive column --by names.
+func stratumColumn(name string) (linelist.Column, bool) {
+	c, ok := linelist.ColumnNamed(name)
+	return c, ok && c.Stratum != nil
 }
 
-func stratumValue(c *linelist.Case, col string) string {
-	switch col {
-	case linelist.ColSetting:
-		return c.Setting
-	case linelist.ColAgeGroup:
-		return c.AgeGroup
-	}
-	return c.Jurisdiction
-}
-
-func strataValues(cases []linelist.Case, col string) []string {
+// strataValues lists the values of a descriptive column, sorted.
+func strataValues(cases []linelist.Case, col linelist.Column) []string {
 	m := map[string]bool{}
 	for i := range cases {
-		m[stratumValue(&cases[i], col)] = true
+		m[col.Stratum(&cases[i])] = true
 	}
 	vs := make([]string, 0, len(m))
 	for v := range m {

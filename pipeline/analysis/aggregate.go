@@ -231,15 +231,12 @@ func (a *run) ageMixing() {
 
 // strata tabulates cases and mean offspring by setting and by age group.
 func (a *run) strata() {
-	for _, col := range []string{linelist.ColSetting, linelist.ColAgeGroup} {
+	for _, name := range []string{linelist.ColSetting, linelist.ColAgeGroup} {
+		col, _ := linelist.ColumnNamed(name)
 		type acc struct{ cases, counted, offspring int }
 		m := map[string]*acc{}
 		for _, i := range a.selected {
-			v := a.cases[i].Setting
-			if col == linelist.ColAgeGroup {
-				v = a.cases[i].AgeGroup
-			}
-			v = label(v)
+			v := label(col.Stratum(&a.cases[i]))
 			x := m[v]
 			if x == nil {
 				x = &acc{}
@@ -258,7 +255,7 @@ func (a *run) strata() {
 		sort.Strings(names)
 		for _, v := range names {
 			x := m[v]
-			st := Stratum{Column: col, Value: v, Cases: a.suppress(x.cases)}
+			st := Stratum{Column: name, Value: v, Cases: a.suppress(x.cases)}
 			if st.Cases != nil && x.counted >= a.o.SuppressBelow {
 				st.MeanOffspring = numeric.FinitePtr(float64(x.offspring) / float64(x.counted))
 			}

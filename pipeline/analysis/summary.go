@@ -16,10 +16,10 @@ type Summary struct {
 	Scope    *Scope       `json:"scope,omitempty"`
 	Settings RunSettings  `json:"settings"`
 
-	Input         Input              `json:"input"`
-	Problems      []Problem          `json:"problems"`
-	ProblemCounts []ProblemCount     `json:"problem_counts"`
-	Tree          Tree               `json:"tree"`
+	Input         Input          `json:"input"`
+	Problems      []Problem      `json:"problems"`
+	ProblemCounts []ProblemCount `json:"problem_counts"`
+	Tree          Tree           `json:"tree"`
 
 	Offspring      *Offspring      `json:"offspring,omitempty"`
 	Outlook        *Outlook        `json:"outlook,omitempty"`

@@ -28,24 +28,3 @@ type Strata struct {
 // NoStrata is the Strata of a case with none of the descriptive columns recorded. Code that
 // builds Cases itself sets it (or its own Strata) so that c.Setting never dereferences nil.
 func NoStrata() *Strata { return &Strata{} }
-
-// Canonical column names, in the order the documentation lists them.
-const (
-	ColCaseID       = "case_id"
-	ColInfectorID   = "infector_id"
-	ColOnsetDate    = "onset_date"
-	ColReportDate   = "report_date"
-	ColSetting      = "setting"
-	ColAgeGroup     = "age_group"
-	ColJurisdiction = "jurisdiction"
-	ColImported     = "imported"
-)
-
-// CanonicalColumns lists every column caseweave reads; all others are skipped unread.
-var CanonicalColumns = []string{
-	ColCaseID, ColInfectorID, ColOnsetDate, ColReportDate,
-	ColSetting, ColAgeGroup, ColJurisdiction, ColImported,
-}
-
-// RequiredColumns must be present in the header for a file to be analysed.
-var RequiredColumns = []string{ColCaseID, ColOnsetDate}

@@ -177,15 +177,15 @@ func parseColumns(n *yaml.Node, in *InputConfig) error {
 		return configErr(n.Line, "input.columns must map canonical names to export headers (case_id: \"Case Number\"), not a %s", kindName(n))
 	}
 	canonical := map[string]bool{}
-	for _, c := range CanonicalColumns {
-		canonical[c] = true
+	for _, c := range columns {
+		canonical[c.Name] = true
 	}
 	in.Columns = map[string]string{}
 	byHeader := map[string]string{} // folded header -> canonical name
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
 		if !canonical[k.Value] {
-			return configErr(k.Line, "input.columns has unknown column %q; the canonical columns are %s", clip(k.Value), strings.Join(CanonicalColumns, ", "))
+			return configErr(k.Line, "input.columns has unknown column %q; the canonical columns are %s", clip(k.Value), strings.Join(ColumnNames(), ", "))
 		}
 		if _, dup := in.Columns[k.Value]; dup {
 			return configErr(k.Line, "input.columns.%s is given twice; keep one", k.Value)

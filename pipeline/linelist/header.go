@@ -7,31 +7,14 @@ import (
 )
 
 // HeaderVariants returns, for a canonical column, the header spellings recognised without
-// a config, best first. Headers are compared after folding: letter case, spaces, hyphens,
-// underscores and dots are ignored, so "Case ID", "case-id", "CaseID" and "CASE_ID" all fold
-// to "caseid". When two headers of a file match the same canonical column, the one whose
-// variant comes first here wins (so "case_id" beats "ID"); two headers with equally good
-// matches are an ambiguous_column error.
+// a config, best first (Column.Variants). Headers are compared after folding: letter case,
+// spaces, hyphens, underscores and dots are ignored, so "Case ID", "case-id", "CaseID" and
+// "CASE_ID" all fold to "caseid". When two headers of a file match the same canonical
+// column, the one whose variant comes first wins (so "case_id" beats "ID"); two headers with
+// equally good matches are an ambiguous_column error.
 func HeaderVariants(canonical string) []string {
-	switch canonical {
-	case ColCaseID:
-		return []string{"caseid", "caseidentifier", "casenumber", "caseno", "casenr", "caseref", "id"}
-	case ColInfectorID:
-		return []string{"infectorid", "infector", "infectorcaseid", "sourcecaseid", "sourcecase", "sourceid", "infectedby", "parentcaseid", "parentid"}
-	case ColOnsetDate:
-		return []string{"onsetdate", "onset", "dateofonset", "symptomonset", "symptomonsetdate", "dateofsymptomonset", "onsetofsymptoms", "dateonset"}
-	case ColReportDate:
-		return []string{"reportdate", "datereported", "dateofreport", "reported", "reportingdate", "notificationdate", "datenotified"}
-	case ColSetting:
-		return []string{"setting", "exposuresetting", "transmissionsetting"}
-	case ColAgeGroup:
-		return []string{"agegroup", "ageband", "agecategory", "agegrp"}
-	case ColJurisdiction:
-		return []string{"jurisdiction", "region", "district"}
-	case ColImported:
-		return []string{"imported", "importedcase", "isimported", "importation"}
-	}
-	return nil
+	c, _ := ColumnNamed(canonical)
+	return c.Variants
 }
 
 // foldHeader lower-cases h and drops spaces, hyphens, underscores and dots.
@@ -45,16 +28,17 @@ func foldHeader(h string) string {
 }
 
 // mapHeader decides which header column feeds each canonical column. It returns the
-// column index per canonical column (-1 when absent) in CanonicalColumns order.
+// column index per canonical column (-1 when absent) in Columns order.
 func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]string, error) {
-	idx := make([]int, len(CanonicalColumns))
+	idx := make([]int, len(columns))
 	for i := range idx {
 		idx[i] = -1
 	}
 	taken := make(map[int]string) // header index -> canonical name
 	mapping := map[string]string{}
 
-	for ci, col := range CanonicalColumns {
+	for ci, cd := range columns {
+		col := cd.Name
 		want, ok := in.Columns[col]
 		if !ok {
 			continue
@@ -90,12 +74,13 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 	for hi, h := range header {
 		folded[hi] = foldHeader(h)
 	}
-	for ci, col := range CanonicalColumns {
+	for ci, cd := range columns {
+		col := cd.Name
 		if idx[ci] >= 0 {
 			continue
 		}
 		best, bestRank := -1, -1
-		for rank, v := range HeaderVariants(col) {
+		for rank, v := range cd.Variants {
 			for hi, f := range folded {
 				if f != v {
 					continue
@@ -121,21 +106,13 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 		}
 	}
 
-	for _, col := range RequiredColumns {
-		if idx[canonicalIndex(col)] < 0 {
-			return nil, nil, &FileError{Code: FileMissingColumn, Message: fmt.Sprintf("required column %s not found; headers accepted for it (ignoring case, spaces, hyphens, underscores and dots): %s; %s; rename the column in the export or map it in the jurisdiction config, e.g. input.columns.%s: \"Your Header\"", col, strings.Join(HeaderVariants(col), ", "), headersSeen(header, delim), col)}
+	for ci, cd := range columns {
+		if cd.Required && idx[ci] < 0 {
+			col := cd.Name
+			return nil, nil, &FileError{Code: FileMissingColumn, Message: fmt.Sprintf("required column %s not found; headers accepted for it (ignoring case, spaces, hyphens, underscores and dots): %s; %s; rename the column in the export or map it in the jurisdiction config, e.g. input.columns.%s: \"Your Header\"", col, strings.Join(cd.Variants, ", "), headersSeen(header, delim), col)}
 		}
 	}
 	return idx, mapping, nil
-}
-
-func canonicalIndex(col string) int {
-	for i, c := range CanonicalColumns {
-		if c == col {
-			return i
-		}
-	}
-	return -1
 }
 
 // headersSeen describes a header for a message, at most 20 names of at most 60 bytes.

@@ -129,7 +129,7 @@ func Read(r io.Reader, opts Options) (*LineList, error) {
 // reader holds the state of one read; nothing outlives it except the LineList.
 type reader struct {
 	ll     *LineList
-	idx    []int // header column per canonical column (CanonicalColumns order), -1 if absent
+	idx    []int // header column per canonical column (Columns order), -1 if absent
 	in     InputConfig
 	asOf   Day
 	intern map[string]string
@@ -325,98 +325,31 @@ func (rd *reader) badText(s string) string {
 	return ""
 }
 
-// Canonical column positions in CanonicalColumns.
-const (
-	ciCaseID = iota
-	ciInfectorID
-	ciOnsetDate
-	ciReportDate
-	ciSetting
-	ciAgeGroup
-	ciJurisdiction
-	ciImported
-)
-
 func (rd *reader) row(rec []string, line int) {
-	ll := rd.ll
-	reject := false
-	c := Case{Row: line}
-
-	id := rd.cell(rec, ciCaseID)
-	switch {
-	case id == "":
-		reject = true
-		rd.problem(line, ColCaseID, CodeMissingID, SeverityError, "case_id is blank; every row needs an identifier; row rejected")
-	case rd.badText(id) != "":
-		reject = true
-		rd.problem(line, ColCaseID, CodeBadValue, SeverityError, "case_id "+rd.badText(id)+"; row rejected")
+	r := rowState{line: line, c: Case{Row: line}}
+	for ci := range columns {
+		columns[ci].decode(rd, &r, rd.cell(rec, ci))
 	}
-
-	onset := rd.cell(rec, ciOnsetDate)
-	if onset == "" {
-		reject = true
-		rd.problem(line, ColOnsetDate, CodeBadDate, SeverityError, "onset_date is blank; every case needs an onset date; row rejected")
-	} else if d, err := ParseDate(onset, rd.in.DateFormat); err != nil {
-		reject = true
-		rd.problem(line, ColOnsetDate, CodeBadDate, SeverityError, "onset_date: "+err.Error()+"; row rejected")
-	} else {
-		c.Onset = d
-		if rd.asOf != 0 && d > rd.asOf {
-			rd.problem(line, ColOnsetDate, CodeFutureOnset, SeverityWarning, fmt.Sprintf("onset %s is after the analysis date %s; check the date (or the analysis date)", d, rd.asOf))
-		}
-	}
-
-	if rep := rd.cell(rec, ciReportDate); rep != "" {
-		if d, err := ParseDate(rep, rd.in.DateFormat); err != nil {
-			rd.problem(line, ColReportDate, CodeBadDate, SeverityWarning, "report_date: "+err.Error()+"; report date left blank")
-		} else {
-			c.Report, c.HasReport = d, true
-		}
-	}
-
-	if inf := rd.cell(rec, ciInfectorID); inf != "" {
-		if why := rd.badText(inf); why != "" {
-			rd.problem(line, ColInfectorID, CodeBadValue, SeverityError, "infector_id "+why+"; link dropped")
-		} else if inf == id {
-			c.InfectorID = inf // replaced by the cloned ID below, sharing its storage
-		} else {
-			c.InfectorID = strings.Clone(inf)
-		}
-	}
-
-	switch v := rd.cell(rec, ciImported); strings.ToLower(v) {
-	case "", "no", "false", "0", "n":
-	case "yes", "true", "1", "y":
-		c.Imported = true
-	default:
-		rd.problem(line, ColImported, CodeBadValue, SeverityWarning, fmt.Sprintf("imported %q is not one of yes, no, true, false, 1, 0, y, n (or blank); read as not imported", clip(v)))
-	}
-
-	st := Strata{
-		Setting:      rd.stratum(rec, ciSetting, ColSetting, line),
-		AgeGroup:     rd.stratum(rec, ciAgeGroup, ColAgeGroup, line),
-		Jurisdiction: rd.stratum(rec, ciJurisdiction, ColJurisdiction, line),
-	}
-	c.Strata = rd.strata[st]
+	c := r.c
+	c.Strata = rd.strata[r.st]
 	if c.Strata == nil {
+		st := r.st
 		c.Strata = &st
 		rd.strata[st] = c.Strata
 	}
-
-	if reject {
-		ll.Rejected++
+	if r.reject {
+		rd.ll.Rejected++
 		return
 	}
-	c.ID = strings.Clone(id)
-	if c.InfectorID != "" && c.InfectorID == id {
+	c.ID = strings.Clone(r.id)
+	if c.InfectorID != "" && c.InfectorID == r.id {
 		c.InfectorID = c.ID // a self link, reported by forest; share the string
 	}
-	ll.Cases = append(ll.Cases, c)
+	rd.ll.Cases = append(rd.ll.Cases, c)
 }
 
-// stratum reads a descriptive column, interned so that repeated values share storage.
-func (rd *reader) stratum(rec []string, ci int, col string, line int) string {
-	v := rd.cell(rec, ci)
+// stratum reads a descriptive column's value, interned so that repeated values share storage.
+func (rd *reader) stratum(v, col string, line int) string {
 	if v == "" {
 		return ""
 	}

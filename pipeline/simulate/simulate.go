@@ -1,6 +1,7 @@
 package simulate
 
 import (
+	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
@@ -9,7 +10,6 @@ import (
 	"sort"
 	"strconv"
 
-	"github.com/gocarina/gocsv"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
@@ -165,57 +165,49 @@ func Run(sc Scenario) ([]Record, error) {
 	return recs, nil
 }
 
-// CanonicalRow is the canonical line-list layout that WriteCSV emits, column for column.
-type CanonicalRow struct {
-	CaseID       string `csv:"case_id"`
-	InfectorID   string `csv:"infector_id"`
-	OnsetDate    string `csv:"onset_date"`
-	ReportDate   string `csv:"report_date"`
-	Setting      string `csv:"setting"`
-	AgeGroup     string `csv:"age_group"`
-	Jurisdiction string `csv:"jurisdiction"`
-	Imported     string `csv:"imported"`
-}
-
-// rowWithContact adds invented personal-data columns, the kind a real export carries, so
-// that tests and the demo can show that none of them reaches a report.
-type rowWithContact struct {
-	CanonicalRow
-	FullName string `csv:"full_name"`
-	Phone    string `csv:"phone"`
-	Address  string `csv:"home_address"`
-}
-
 // WriteOptions shapes the written file.
 type WriteOptions struct {
-	// ContactColumns adds invented name, phone and address columns.
+	// ContactColumns adds invented name, phone and address columns, the kind a real export
+	// carries, so that tests and the demo can show that none of them reaches a report.
 	ContactColumns bool
 	// ReportDelay is the fixed number of days from onset to report (0: no report_date).
 	ReportDelay int
 }
 
-// WriteCSV writes the records as a canonical line list with gocsv (UTF-8, comma, header).
+// contactColumns are the invented personal-data columns of WriteOptions.ContactColumns.
+var contactColumns = []string{"full_name", "phone", "home_address"}
+
+// WriteCSV writes the records as a canonical line list (UTF-8, comma, header): the columns
+// of linelist.Columns in their order, each value as Column.Format writes it.
 func WriteCSV(w io.Writer, recs []Record, opts WriteOptions) error {
-	base := make([]CanonicalRow, len(recs))
+	cols := linelist.Columns()
+	cw := csv.NewWriter(w)
+	header := linelist.ColumnNames()
+	if opts.ContactColumns {
+		header = append(header, contactColumns...)
+	}
+	if err := cw.Write(header); err != nil {
+		return err
+	}
+	row := make([]string, len(header))
 	for i, r := range recs {
-		imp := "no"
-		if r.Imported {
-			imp = "yes"
-		}
-		rep := ""
+		c := linelist.Case{ID: r.ID, InfectorID: r.InfectorID, Onset: r.Onset, Imported: r.Imported,
+			Strata: &linelist.Strata{Setting: r.Setting, AgeGroup: r.AgeGroup, Jurisdiction: r.Jurisdiction}}
 		if opts.ReportDelay > 0 {
-			rep = (r.Onset + linelist.Day(opts.ReportDelay)).String()
+			c.Report, c.HasReport = r.Onset+linelist.Day(opts.ReportDelay), true
 		}
-		base[i] = CanonicalRow{r.ID, r.InfectorID, r.Onset.String(), rep, r.Setting, r.AgeGroup, r.Jurisdiction, imp}
+		for j, col := range cols {
+			row[j] = col.Format(&c)
+		}
+		if opts.ContactColumns {
+			copy(row[len(cols):], []string{inventedName(i), inventedPhone(i), inventedAddress(i)})
+		}
+		if err := cw.Write(row); err != nil {
+			return err
+		}
 	}
-	if !opts.ContactColumns {
-		return gocsv.Marshal(base, w)
-	}
-	rows := make([]rowWithContact, len(recs))
-	for i := range recs {
-		rows[i] = rowWithContact{base[i], inventedName(i), inventedPhone(i), inventedAddress(i)}
-	}
-	return gocsv.Marshal(rows, w)
+	cw.Flush()
+	return cw.Error()
 }
 
 // Invented personal data: syllables and numbers that belong to nobody.
