@@ -1,14 +1,16 @@
 package render
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io/fs"
+	"os"
 	"slices"
 	"strings"
 
 	"go.yaml.in/yaml/v3"
+
+	"github.com/caseweave/caseweave/pipeline/linelist"
 )
 
 // ConfigFile is the name of the report configuration inside a template folder.
@@ -54,117 +56,219 @@ func SectionNames() []string {
 	return names
 }
 
-// ReportConfig is a template folder's config.yaml: the jurisdiction's settings for its report.
-type ReportConfig struct {
+// Config is a jurisdiction's config.yaml, read once into one typed value: how its export
+// is read (Input, owned by the line-list reader) and how its report looks. Unknown keys, and
+// values of the wrong kind or out of range, are errors that name the line.
+//
+//	input:                     # see linelist.ParseInput
+//	  columns: {case_id: "Case Number"}
+//	  date_format: dmy
+//	jurisdiction: "Ostvale"    # display name of the reporting authority or area
+//	contact: "Ostvale Health Office, epi desk"
+//	suppress_below: 5          # counts 1..4 print as "<5"
+//	labels: {outlook: "What may come next"}
+//	sections: [headline, epicurve, offspring, r_and_k, outlook, cautions, provenance]
+//	caution: "Paragraphs separated by blank lines."
+//	incubation_days: 14        # longest incubation period, for the rule of thumb
+//	pseudonym_key: "…"         # keys the hash that replaces case identifiers
+type Config struct {
+	// Input says how the jurisdiction's export is read.
+	Input linelist.InputConfig
 	// Jurisdiction is the display name of the reporting authority or area.
-	Jurisdiction string `yaml:"jurisdiction"`
+	Jurisdiction string
 	// Contact is the contact line printed under the title.
-	Contact string `yaml:"contact"`
+	Contact string
 	// SuppressBelow: counts from 1 to SuppressBelow−1 print as "<SuppressBelow" (default 5).
-	SuppressBelow int `yaml:"suppress_below"`
+	SuppressBelow int
 	// Labels override section titles, keyed by section name (see SectionNames).
-	Labels map[string]string `yaml:"labels"`
+	Labels map[string]string
 	// Sections lists the sections to show; empty means all.
-	Sections []string `yaml:"sections"`
+	Sections []string
 	// Caution is the cautions text; paragraphs are separated by blank lines.
-	Caution string `yaml:"caution"`
+	Caution string
 	// IncubationDays is the longest incubation period, for the end-of-outbreak rule of thumb.
-	IncubationDays *int `yaml:"incubation_days"`
+	IncubationDays *int
 	// PseudonymKey keys the hash that replaces case identifiers. It never appears in output.
-	PseudonymKey string `yaml:"pseudonym_key"`
-	// Input belongs to the line-list reader; the report ignores it.
-	Input yaml.Node `yaml:"input"`
+	PseudonymKey string
 }
 
-// ConfigError is a problem in config.yaml, with the file and line it was found at.
-type ConfigError struct {
-	File string
-	Line int // 0 when unknown
-	Msg  string
-}
+// DefaultConfig is the configuration of a template folder without a config.yaml.
+func DefaultConfig() Config { return Config{SuppressBelow: DefaultSuppressBelow} }
 
-func (e *ConfigError) Error() string {
-	if e.Line > 0 {
-		return fmt.Sprintf("%s line %d: %s", e.File, e.Line, e.Msg)
-	}
-	return fmt.Sprintf("%s: %s", e.File, e.Msg)
-}
-
-var configKeys = []string{"jurisdiction", "contact", "suppress_below", "labels", "sections",
-	"caution", "incubation_days", "pseudonym_key", "input"}
-
-// LoadConfig reads config.yaml from a template folder. A folder without one gets the defaults.
-func LoadConfig(fsys fs.FS) (ReportConfig, error) {
+// LoadConfig reads config.yaml from a template folder; a folder without one gets the
+// defaults. Errors are *linelist.FileError values with Code FileBadConfig and the line.
+func LoadConfig(fsys fs.FS) (Config, error) {
 	data, err := fs.ReadFile(fsys, ConfigFile)
 	if errors.Is(err, fs.ErrNotExist) {
-		return ReportConfig{SuppressBelow: DefaultSuppressBelow}, nil
+		return DefaultConfig(), nil
 	}
 	if err != nil {
-		return ReportConfig{}, &ConfigError{File: ConfigFile, Msg: err.Error()}
+		return Config{}, &linelist.FileError{Path: ConfigFile, Code: linelist.FileBadConfig, Err: err}
 	}
 	return ParseConfig(ConfigFile, data)
 }
 
-// ParseConfig parses the bytes of a config.yaml; name is used in error messages.
-func ParseConfig(name string, data []byte) (ReportConfig, error) {
-	cfg := ReportConfig{}
+// LoadConfigFile reads a config.yaml by path (the --config flag).
+func LoadConfigFile(path string) (Config, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return Config{}, &linelist.FileError{Path: path, Code: linelist.FileBadConfig, Err: fmt.Errorf("cannot read the config: %w", err)}
+	}
+	return ParseConfig(path, data)
+}
+
+// configKey is one top-level key of config.yaml with its decoder.
+type configKey struct {
+	name   string
+	decode func(c *Config, v *yaml.Node) error
+}
+
+// configKeys are the top-level keys of config.yaml.
+var configKeys = []configKey{
+	{"input", func(c *Config, v *yaml.Node) error { return linelist.ParseInput(v, &c.Input) }},
+	{"jurisdiction", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "jurisdiction", &c.Jurisdiction) }},
+	{"contact", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "contact", &c.Contact) }},
+	{"suppress_below", func(c *Config, v *yaml.Node) error {
+		if err := decodeScalar(v, "suppress_below", &c.SuppressBelow); err != nil {
+			return err
+		}
+		if c.SuppressBelow < 1 {
+			return configErr(v.Line, "suppress_below must be a whole number of at least 1, not %d", c.SuppressBelow)
+		}
+		return nil
+	}},
+	{"labels", func(c *Config, v *yaml.Node) error {
+		if v.Kind != yaml.MappingNode {
+			return configErr(v.Line, "labels must map section names to titles (outlook: \"What may come next\")")
+		}
+		c.Labels = map[string]string{}
+		for i := 0; i+1 < len(v.Content); i += 2 {
+			k := v.Content[i]
+			if !slices.Contains(SectionNames(), k.Value) {
+				return configErr(k.Line, "labels: unknown section %q (known: %s)", k.Value, strings.Join(SectionNames(), ", "))
+			}
+			var t string
+			if err := decodeScalar(v.Content[i+1], "labels."+k.Value, &t); err != nil {
+				return err
+			}
+			c.Labels[k.Value] = t
+		}
+		return nil
+	}},
+	{"sections", func(c *Config, v *yaml.Node) error {
+		if v.Kind != yaml.SequenceNode {
+			return configErr(v.Line, "sections must be a list of section names ([headline, outlook, ...])")
+		}
+		for _, e := range v.Content {
+			var name string
+			if err := decodeScalar(e, "sections", &name); err != nil {
+				return err
+			}
+			if !slices.Contains(SectionNames(), name) {
+				return configErr(e.Line, "sections: unknown section %q (known: %s)", name, strings.Join(SectionNames(), ", "))
+			}
+			c.Sections = append(c.Sections, name)
+		}
+		return nil
+	}},
+	{"caution", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "caution", &c.Caution) }},
+	{"incubation_days", func(c *Config, v *yaml.Node) error {
+		var d int
+		if err := decodeScalar(v, "incubation_days", &d); err != nil {
+			return err
+		}
+		if d < 1 {
+			return configErr(v.Line, "incubation_days must be a positive number of days, not %d", d)
+		}
+		c.IncubationDays = &d
+		return nil
+	}},
+	{"pseudonym_key", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "pseudonym_key", &c.PseudonymKey) }},
+}
+
+// ParseConfig parses the bytes of a config.yaml; name is the file named in errors.
+func ParseConfig(name string, data []byte) (Config, error) {
+	cfg := DefaultConfig()
+	fail := func(err error) (Config, error) {
+		var fe *linelist.FileError
+		if errors.As(err, &fe) {
+			fe.Path = name
+			return Config{}, fe
+		}
+		return Config{}, &linelist.FileError{Path: name, Code: linelist.FileBadConfig, Err: err}
+	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return cfg, &ConfigError{File: name, Msg: strings.TrimPrefix(err.Error(), "yaml: ")}
+		return fail(configErr(yamlErrorLine(err), "the config is not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: ")))
 	}
-	if len(doc.Content) > 0 {
-		top := doc.Content[0]
-		if top.Kind != yaml.MappingNode {
-			return cfg, &ConfigError{File: name, Line: top.Line, Msg: "expected a mapping of keys at the top level"}
+	if len(doc.Content) == 0 {
+		return cfg, nil // empty file: all defaults
+	}
+	top := doc.Content[0]
+	if top.Kind != yaml.MappingNode {
+		return fail(configErr(top.Line, "the config must be a mapping of keys (input:, jurisdiction:, ...)"))
+	}
+	seen := map[string]int{}
+	for i := 0; i+1 < len(top.Content); i += 2 {
+		k, v := top.Content[i], top.Content[i+1]
+		if first, dup := seen[k.Value]; dup {
+			return fail(configErr(k.Line, "key %q is given twice (first on line %d); keep one", k.Value, first))
 		}
-		for i := 0; i+1 < len(top.Content); i += 2 {
-			k := top.Content[i]
-			if !slices.Contains(configKeys, k.Value) {
-				return cfg, &ConfigError{File: name, Line: k.Line,
-					Msg: fmt.Sprintf("unknown key %q (known keys: %s)", k.Value, strings.Join(configKeys, ", "))}
+		seen[k.Value] = k.Line
+		j := slices.IndexFunc(configKeys, func(c configKey) bool { return c.name == k.Value })
+		if j < 0 {
+			names := make([]string, len(configKeys))
+			for n, c := range configKeys {
+				names[n] = c.name
 			}
+			return fail(configErr(k.Line, "unknown key %q (known keys: %s)", k.Value, strings.Join(names, ", ")))
 		}
-		dec := yaml.NewDecoder(bytes.NewReader(data))
-		dec.KnownFields(true)
-		if err := dec.Decode(&cfg); err != nil {
-			return cfg, &ConfigError{File: name, Msg: strings.TrimPrefix(err.Error(), "yaml: ")}
+		if v.Kind == yaml.ScalarNode && v.Tag == "!!null" {
+			continue // a key left empty keeps its default
 		}
-	}
-	if cfg.SuppressBelow == 0 {
-		cfg.SuppressBelow = DefaultSuppressBelow
-	}
-	if cfg.SuppressBelow < 1 {
-		return cfg, &ConfigError{File: name, Msg: fmt.Sprintf("suppress_below must be at least 1, not %d", cfg.SuppressBelow)}
-	}
-	if cfg.IncubationDays != nil && *cfg.IncubationDays < 1 {
-		return cfg, &ConfigError{File: name, Msg: "incubation_days must be a positive number of days"}
-	}
-	known := SectionNames()
-	for _, s := range cfg.Sections {
-		if !slices.Contains(known, s) {
-			return cfg, &ConfigError{File: name, Msg: fmt.Sprintf("sections: unknown section %q (known: %s)", s, strings.Join(known, ", "))}
-		}
-	}
-	labelKeys := make([]string, 0, len(cfg.Labels))
-	for k := range cfg.Labels {
-		labelKeys = append(labelKeys, k)
-	}
-	slices.Sort(labelKeys) // so the first bad key reported is the same every run
-	for _, k := range labelKeys {
-		if !slices.Contains(known, k) {
-			return cfg, &ConfigError{File: name, Msg: fmt.Sprintf("labels: unknown section %q (known: %s)", k, strings.Join(known, ", "))}
+		if err := configKeys[j].decode(&cfg, v); err != nil {
+			return fail(err)
 		}
 	}
 	return cfg, nil
 }
 
+// decodeScalar decodes a single YAML value into dst (a string or an int), with the line in
+// the error.
+func decodeScalar(v *yaml.Node, key string, dst any) error {
+	if v.Kind != yaml.ScalarNode {
+		return configErr(v.Line, "%s must be a single value", key)
+	}
+	if err := v.Decode(dst); err != nil {
+		want := "text"
+		if _, ok := dst.(*int); ok {
+			want = "a whole number"
+		}
+		return configErr(v.Line, "%s must be %s, not %q", key, want, v.Value)
+	}
+	return nil
+}
+
+func configErr(line int, format string, args ...any) *linelist.FileError {
+	return &linelist.FileError{Line: line, Code: linelist.FileBadConfig, Err: fmt.Errorf(format, args...)}
+}
+
+// yamlErrorLine finds the line the YAML parser names in its message ("yaml: line 3: …").
+func yamlErrorLine(err error) int {
+	var n int
+	if _, e := fmt.Sscanf(strings.TrimPrefix(err.Error(), "yaml: "), "line %d:", &n); e == nil {
+		return n
+	}
+	return 0
+}
+
 // shows reports whether the named section is enabled.
-func (c *ReportConfig) shows(section string) bool {
+func (c *Config) shows(section string) bool {
 	return len(c.Sections) == 0 || slices.Contains(c.Sections, section)
 }
 
 // title is the section's display title, honouring labels.
-func (c *ReportConfig) title(section string) (string, error) {
+func (c *Config) title(section string) (string, error) {
 	if t, ok := c.Labels[section]; ok && strings.TrimSpace(t) != "" {
 		return t, nil
 	}
@@ -177,7 +281,7 @@ func (c *ReportConfig) title(section string) (string, error) {
 }
 
 // suppress is the effective small-count threshold.
-func (c *ReportConfig) suppress() int {
+func (c *Config) suppress() int {
 	if c.SuppressBelow < 1 {
 		return DefaultSuppressBelow
 	}

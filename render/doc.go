@@ -5,7 +5,7 @@
 // # Pipeline
 //
 // A template folder holds report.md and partials (Markdown with text/template actions),
-// style.css and config.yaml (see ReportConfig). Rendering runs in three steps:
+// style.css and config.yaml (see Config). Rendering runs in three steps:
 //
 //  1. The template executes over the Summary. Every output action is rewritten at parse time
 //     to end in an escaper, as html/template does, so a plain {{ .Scope.Value }} prints as

@@ -57,7 +57,7 @@ func (st *renderState) funcs() template.FuncMap {
 		"caution":      st.fnCaution,
 		"caseid":       func(id string) mdText { return mdText(escapeMarkdown(st.pseudonym(id))) },
 		"model":        func(id string) mdText { return mdText(escapeMarkdown(modelName(id))) },
-		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(analysis.ProblemMeaning(c))) },
+		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(c.Meaning())) },
 		"threshold":    func() int { return st.cfg.suppress() },
 		"value":        fnValue,
 		"windowsource": func() mdText { return mdText(escapeMarkdown(windowSource(st.s.Settings.CensorDaysSource))) },

@@ -183,9 +183,9 @@ func FuzzParseConfig(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
 		cfg, err := ParseConfig("config.yaml", data)
 		if err != nil {
-			var ce *ConfigError
-			if !errors.As(err, &ce) || ce.File != "config.yaml" || ce.Msg == "" {
-				t.Fatalf("error %v (%T) is not a *ConfigError naming config.yaml with a message", err, err)
+			var fe *linelist.FileError
+			if !errors.As(err, &fe) || fe.Code != linelist.FileBadConfig || fe.Path != "config.yaml" || fe.Err == nil {
+				t.Fatalf("error %v (%T) is not a bad_config *linelist.FileError naming config.yaml", err, err)
 			}
 			return
 		}

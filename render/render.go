@@ -28,7 +28,7 @@ type Options struct {
 	// Nil means the embedded templates/default.
 	Templates fs.FS
 	// Config overrides the folder's config.yaml when non-nil.
-	Config *ReportConfig
+	Config *Config
 	// Charts names the charts to draw (see ChartNames); nil draws all. A chart left out is
 	// replaced by a one-line note.
 	Charts []string
@@ -41,7 +41,7 @@ type Options struct {
 // renderState is everything one render needs; nothing outlives the call.
 type renderState struct {
 	s        *analysis.Summary
-	cfg      ReportConfig
+	cfg      Config
 	charts   []string
 	showIDs  bool
 	set      *texttemplate.Template
@@ -63,7 +63,7 @@ func Render(s *analysis.Summary, opts Options) ([]byte, error) {
 	if fsys == nil {
 		fsys = templates.Default()
 	}
-	var cfg ReportConfig
+	var cfg Config
 	if opts.Config != nil {
 		cfg = *opts.Config
 	} else {

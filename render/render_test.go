@@ -242,7 +242,7 @@ func TestPseudonymKeyNeverInOutput(t *testing.T) {
 }
 
 func TestSuppressionThresholdFromConfig(t *testing.T) {
-	cfg := ReportConfig{SuppressBelow: 40}
+	cfg := Config{SuppressBelow: 40}
 	html := mustRender(t, fixtureSummary(), Options{Config: &cfg})
 	// The care-home stratum has 32 cases: below 40 it must print as <40 with its mean withheld.
 	if !strings.Contains(html, "<td>care home</td>\n<td style=\"text-align:right\">&lt;40</td>\n<td style=\"text-align:right\">withheld</td>") &&

@@ -98,7 +98,7 @@ func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err
 			for i, r := range p.FirstRows {
 				rows[i] = strconv.Itoa(r)
 			}
-			t.Rows = append(t.Rows, []string{string(p.Code), analysis.ProblemMeaning(p.Code), string(p.Severity), f.int(p.Count), strings.Join(rows, " ")})
+			t.Rows = append(t.Rows, []string{string(p.Code), p.Code.Meaning(), string(p.Severity), f.int(p.Count), strings.Join(rows, " ")})
 		}
 	case "estimates":
 		o := s.Offspring
@@ -430,7 +430,7 @@ func tableCSV(t table) ([]byte, error) {
 // each file atomically. Small counts are suppressed at the run's threshold and case
 // identifiers pseudonymised, as in the report.
 func WriteTables(s *analysis.Summary, dir string) error {
-	cfg := ReportConfig{SuppressBelow: s.Settings.SuppressBelow}
+	cfg := Config{SuppressBelow: s.Settings.SuppressBelow}
 	return writeTables(&renderState{s: s, cfg: cfg, ordinals: map[string]string{}}, dir)
 }
 

@@ -2,6 +2,7 @@ package render
 
 import (
 	"errors"
+	"github.com/caseweave/caseweave/pipeline/linelist"
 	"os"
 	"path/filepath"
 	"strings"
@@ -54,7 +55,7 @@ func TestEscapeValue(t *testing.T) {
 }
 
 func TestNumberFormats(t *testing.T) {
-	st := &renderState{s: fixtureSummary(), cfg: ReportConfig{SuppressBelow: 5}}
+	st := &renderState{s: fixtureSummary(), cfg: Config{SuppressBelow: 5}}
 	e := est(0.8, 0.74, 0.88, 0.70, 0.90)
 	for _, tc := range []struct {
 		name, got, want string
@@ -87,27 +88,32 @@ func TestNumberFormats(t *testing.T) {
 func TestParseConfig(t *testing.T) {
 	for _, tc := range []struct {
 		name, yaml, errContains string
-		check                   func(ReportConfig) bool
+		check                   func(Config) bool
 	}{
-		{"empty gives defaults", "", "", func(c ReportConfig) bool { return c.SuppressBelow == 5 && len(c.Sections) == 0 }},
+		{"empty gives defaults", "", "", func(c Config) bool { return c.SuppressBelow == 5 && len(c.Sections) == 0 }},
 		{"all keys", "jurisdiction: X\ncontact: Y\nsuppress_below: 10\nlabels: {headline: Key facts}\nsections: [headline, cautions]\ncaution: C\nincubation_days: 21\npseudonym_key: k\n", "",
-			func(c ReportConfig) bool {
+			func(c Config) bool {
 				return c.Jurisdiction == "X" && c.SuppressBelow == 10 && c.Labels["headline"] == "Key facts" && *c.IncubationDays == 21 && c.shows("cautions") && !c.shows("outlook")
 			}},
-		{"input belongs to the reader", "input:\n  columns: {case_id: ID}\n  anything: [1, 2]\n", "", func(c ReportConfig) bool { return c.SuppressBelow == 5 }},
-		{"unknown key", "jurisdiction: X\nsupress_below: 3\n", `config.yaml line 2: unknown key "supress_below"`, nil},
-		{"unknown section", "sections: [headline, pie]\n", `unknown section "pie"`, nil},
-		{"unknown label", "labels: {nope: X}\n", `labels: unknown section "nope"`, nil},
-		{"bad threshold", "suppress_below: -1\n", "at least 1", nil},
-		{"not a mapping", "- a\n- b\n", "expected a mapping", nil},
-		{"wrong type", "suppress_below: many\n", "config.yaml", nil},
+		{"input for the reader", "input:\n  columns: {case_id: ID}\n  date_format: dmy\n", "", func(c Config) bool {
+			return c.SuppressBelow == 5 && c.Input.Columns["case_id"] == "ID" && c.Input.DateFormat == "dmy"
+		}},
+		{"input checked", "input:\n  columns: {case_id: ID}\n  anything: [1, 2]\n", "config.yaml: line 3: bad_config: unknown key input.anything", nil},
+		{"unknown key", "jurisdiction: X\nsupress_below: 3\n", `config.yaml: line 2: bad_config: unknown key "supress_below"`, nil},
+		{"unknown section", "sections: [headline, pie]\n", `line 1: bad_config: sections: unknown section "pie"`, nil},
+		{"unknown label", "labels: {nope: X}\n", `line 1: bad_config: labels: unknown section "nope"`, nil},
+		{"bad threshold", "suppress_below: -1\n", "line 1: bad_config: suppress_below must be a whole number of at least 1", nil},
+		{"threshold in words", "contact: x\nsuppress_below: five\n", `line 2: bad_config: suppress_below must be a whole number, not "five"`, nil},
+		{"not a mapping", "- a\n- b\n", "line 1: bad_config: the config must be a mapping", nil},
+		{"duplicate key", "contact: a\ncontact: b\n", "line 2: bad_config: key \"contact\" is given twice", nil},
+		{"invalid YAML", "contact: [\n", "bad_config: the config is not valid YAML", nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			c, err := ParseConfig("config.yaml", []byte(tc.yaml))
 			if tc.errContains != "" {
-				var ce *ConfigError
-				if err == nil || !errors.As(err, &ce) || !strings.Contains(err.Error(), tc.errContains) {
-					t.Fatalf("error %v, want a *ConfigError containing %q", err, tc.errContains)
+				var fe *linelist.FileError
+				if err == nil || !errors.As(err, &fe) || fe.Code != linelist.FileBadConfig || fe.Path != "config.yaml" || !strings.Contains(err.Error(), tc.errContains) {
+					t.Fatalf("error %v, want a bad_config *linelist.FileError containing %q", err, tc.errContains)
 				}
 				return
 			}

@@ -1,14 +1,13 @@
 package main
 
 import (
-	"errors"
-	"fmt"
 	"time"
 
 	"github.com/spf13/cobra"
 
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/render"
 )
 
 // inputFlags are the flags every command that reads a line list shares.
@@ -40,7 +39,7 @@ func (f *inputFlags) analysisDate() (linelist.Day, error) {
 type loaded struct {
 	path   string
 	asOf   linelist.Day
-	config *linelist.Config
+	config *render.Config // the --config file, nil without one
 	list   *linelist.LineList
 	forest *forest.Forest
 }
@@ -54,20 +53,18 @@ func (f *inputFlags) load(path string) (*loaded, error) {
 	if f.maxRows < 0 {
 		return nil, usageErrorf("--max-rows must be 0 (no limit) or positive, got %d", f.maxRows)
 	}
-	var cfg *linelist.Config
+	var cfg *render.Config
+	var in linelist.InputConfig
 	if f.config != "" {
-		cfg, err = linelist.LoadConfig(f.config)
+		c, err := render.LoadConfigFile(f.config)
 		if err != nil {
 			return nil, withCode(exitInput, err)
 		}
+		cfg, in = &c, c.Input
 	}
-	ll, err := linelist.ReadFile(path, linelist.Options{Config: cfg, AsOf: asOf, MaxRows: f.maxRows})
+	ll, err := linelist.ReadFile(path, linelist.Options{Input: in, AsOf: asOf, MaxRows: f.maxRows})
 	if err != nil {
-		var fe *linelist.FileError
-		if errors.As(err, &fe) {
-			return nil, withCode(exitInput, fmt.Errorf("%s: %w", path, fe))
-		}
-		return nil, withCode(exitInput, err)
+		return nil, withCode(exitInput, err) // a *linelist.FileError names the file itself
 	}
 	return &loaded{path: path, asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
 }

@@ -28,6 +28,8 @@ type reportFlags struct {
 	pdf       bool
 	showIDs   bool
 	incub     int
+	// templateConfig is set when the config was taken from the --template folder.
+	templateConfig bool
 }
 
 func newReportCmd(e env) *cobra.Command {
@@ -76,9 +78,11 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 	if err != nil {
 		return err
 	}
+	// One report from a template folder reads its export with the folder's own config
+	// (unless --config names another), parsed once for the reader and the report.
 	if f.config == "" && f.template != "" && f.by == "" {
 		if _, err := os.Stat(filepath.Join(f.template, render.ConfigFile)); err == nil {
-			f.config = filepath.Join(f.template, render.ConfigFile)
+			f.config, f.templateConfig = filepath.Join(f.template, render.ConfigFile), true
 		}
 	}
 	ld, err := f.load(path)
@@ -127,9 +131,14 @@ type scoped struct {
 
 // one analyses and renders one report.
 func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *scoped) (page, error) {
-	rc, err := render.LoadConfig(fsys)
-	if err != nil {
-		return page{}, withCode(exitTemplate, err)
+	var rc render.Config
+	if f.templateConfig {
+		rc = *ld.config
+	} else {
+		var err error
+		if rc, err = render.LoadConfig(fsys); err != nil {
+			return page{}, withCode(exitInput, err)
+		}
 	}
 	o, err := f.options(c, e, ld)
 	if err != nil {
@@ -165,9 +174,12 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	html, err := render.Render(shown, render.Options{Templates: fsys, Config: &rc, ShowIDs: true})
 	if err != nil {
 		var te *render.TemplateError
-		var ce *render.ConfigError
-		if errors.As(err, &te) || errors.As(err, &ce) {
+		var fe *linelist.FileError
+		switch {
+		case errors.As(err, &te):
 			return page{}, withCode(exitTemplate, err)
+		case errors.As(err, &fe):
+			return page{}, withCode(exitInput, err)
 		}
 		return page{}, withCode(exitOutput, err)
 	}

@@ -6,7 +6,6 @@ import (
 	"encoding/hex"
 	"strconv"
 
-	"github.com/caseweave/caseweave/pipeline/linelist"
 )
 
 // Pseudonymised returns a copy of s in which every case identifier is replaced: with a key,
@@ -58,36 +57,9 @@ func (s *Summary) Pseudonymised(key string) *Summary {
 	}
 	c.Problems = make([]Problem, len(s.Problems))
 	for i, p := range s.Problems {
-		p.Message = ProblemMeaning(p.Code)
+		p.Message = p.Code.Meaning()
 		c.Problems[i] = p
 	}
 	c.Settings.Pseudonymised = true
 	return &c
-}
-
-// ProblemMeaning says in plain words what a problem code means and what was done.
-func ProblemMeaning(code linelist.Code) string {
-	switch code {
-	case linelist.CodeFieldCount:
-		return "the row has a different number of fields from the header; the row was not used"
-	case linelist.CodeMissingID:
-		return "the case identifier is blank; the row was not used"
-	case linelist.CodeDuplicateID:
-		return "the case identifier appeared on an earlier row; this row was not used"
-	case linelist.CodeBadDate:
-		return "a date could not be read; an unreadable onset date means the row was not used"
-	case linelist.CodeBadValue:
-		return "a value could not be read; it was dropped and the case kept"
-	case linelist.CodeUnknownInfector:
-		return "the infector named matches no case; the link was dropped and the case kept as unlinked"
-	case linelist.CodeSelfInfector:
-		return "the case names itself as its infector; the link was dropped"
-	case linelist.CodeCycle:
-		return "the case lies on a cycle of infector links; the links on the cycle were dropped"
-	case linelist.CodeOnsetBeforeInfector:
-		return "the onset precedes the infector's onset; the link was kept (pre-symptomatic transmission can do this)"
-	case linelist.CodeFutureOnset:
-		return "the onset is after the analysis date; the case was kept"
-	}
-	return "a problem with this row"
 }

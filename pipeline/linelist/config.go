@@ -2,33 +2,10 @@ package linelist
 
 import (
 	"fmt"
-	"os"
 	"strings"
 
 	"go.yaml.in/yaml/v3"
 )
-
-// Config is a jurisdiction config: how one jurisdiction's export is read (Input, owned by
-// this package) and how its report looks (Report, owned by the report package and kept
-// here unparsed). One YAML file holds both:
-//
-//	input:
-//	  columns:                 # canonical name: header in the export
-//	    case_id: "Case Number"
-//	    onset_date: "Date of Onset"
-//	  date_format: dmy         # iso (default) | dmy | mdy
-//	  delimiter: ";"           # auto (default) | "," | ";" | tab
-//	  encoding: windows-1252   # auto (default) | utf-8 | latin-1 | windows-1252
-//	jurisdiction: "Ostvale"    # this and the other ReportKeys are read by the report package
-//	suppress_below: 5
-//
-// Top-level keys other than input and those listed by ReportKeys are errors that name the key.
-type Config struct {
-	Input InputConfig
-	// Report holds the top-level keys listed by ReportKeys as raw YAML nodes, keyed by
-	// name, for the report package to decode; it is nil when there are none.
-	Report map[string]yaml.Node
-}
 
 // InputConfig is the part of a Config that says how to read the export.
 type InputConfig struct {
@@ -44,73 +21,20 @@ type InputConfig struct {
 	Encoding string
 }
 
-// ReportKeys lists the top-level config keys that belong to the report package. They are
-// accepted without being checked here and kept in Config.Report.
-func ReportKeys() []string {
-	// The keys of render.ReportConfig: one config.yaml per jurisdiction holds both parts.
-	return []string{"jurisdiction", "contact", "suppress_below", "labels", "sections",
-		"caution", "incubation_days", "pseudonym_key"}
-}
-
-// LoadConfig reads and parses a jurisdiction config file. Every failure is a *FileError
-// with Code FileBadConfig and Path set.
-func LoadConfig(path string) (*Config, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		return nil, &FileError{Path: path, Code: FileBadConfig, Message: fmt.Sprintf("cannot read the config: %v", err)}
-	}
-	c, err := ParseConfig(b)
-	if err != nil {
-		if fe, ok := err.(*FileError); ok {
-			fe.Path = path
-		}
-		return nil, err
-	}
-	return c, nil
-}
-
-// ParseConfig parses a jurisdiction config. Every failure is a *FileError with Code
-// FileBadConfig whose message names the line and the key to fix.
-func ParseConfig(b []byte) (*Config, error) {
-	var doc yaml.Node
-	if err := yaml.Unmarshal(b, &doc); err != nil {
-		return nil, configErr(0, "the config is not valid YAML: %v", err)
-	}
-	c := &Config{}
-	if doc.Kind == 0 || len(doc.Content) == 0 {
-		return c, nil // empty file: all defaults
-	}
-	root := doc.Content[0]
-	if root.Kind != yaml.MappingNode {
-		return nil, configErr(root.Line, "the config must be a mapping of keys (input:, report:, ...), not a %s", kindName(root))
-	}
-	report := map[string]bool{}
-	for _, k := range ReportKeys() {
-		report[k] = true
-	}
-	seen := map[string]int{}
-	for i := 0; i+1 < len(root.Content); i += 2 {
-		k, v := root.Content[i], root.Content[i+1]
-		if first, dup := seen[k.Value]; dup {
-			return nil, configErr(k.Line, "key %q is given twice (first on line %d); keep one", k.Value, first)
-		}
-		seen[k.Value] = k.Line
-		switch {
-		case k.Value == "input":
-			if err := parseInput(v, &c.Input); err != nil {
-				return nil, err
-			}
-		case report[k.Value]:
-			if c.Report == nil {
-				c.Report = map[string]yaml.Node{}
-			}
-			c.Report[k.Value] = *v
-		default:
-			return nil, configErr(k.Line, "unknown top-level key %q; known keys are input, %s", clip(k.Value), strings.Join(ReportKeys(), ", "))
-		}
-	}
-	return c, nil
-}
+// ParseInput reads the input section of a jurisdiction config (the mapping under input:)
+// into in, checking every key and value:
+//
+//	input:
+//	  columns:                 # canonical name: header in the export
+//	    case_id: "Case Number"
+//	    onset_date: "Date of Onset"
+//	  date_format: dmy         # iso (default) | dmy | mdy
+//	  delimiter: ";"           # auto (default) | "," | ";" | tab
+//	  encoding: windows-1252   # auto (default) | utf-8 | latin-1 | windows-1252
+//
+// Every failure is a *FileError with Code FileBadConfig and the line of the key or value to
+// fix; the caller sets Path.
+func ParseInput(n *yaml.Node, in *InputConfig) error { return parseInput(n, in) }
 
 func parseInput(n *yaml.Node, in *InputConfig) error {
 	if n.Kind == yaml.ScalarNode && n.Tag == "!!null" {
@@ -260,9 +184,5 @@ func kindName(n *yaml.Node) string {
 }
 
 func configErr(line int, format string, args ...any) *FileError {
-	msg := fmt.Sprintf(format, args...)
-	if line > 0 {
-		msg = fmt.Sprintf("config line %d: %s", line, msg)
-	}
-	return &FileError{Code: FileBadConfig, Message: msg}
+	return &FileError{Code: FileBadConfig, Line: line, Err: fmt.Errorf(format, args...)}
 }

@@ -2,6 +2,7 @@ package linelist_test
 
 import (
 	"fmt"
+	"go.yaml.in/yaml/v3"
 	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
@@ -47,30 +48,30 @@ func ExampleParseDate() {
 	// date "25/04/2026" is not ISO 8601 (YYYY-MM-DD); if the export writes day-first or month-first dates, set input.date_format: dmy or mdy in the jurisdiction config
 }
 
-func ExampleParseConfig() {
-	cfg, err := linelist.ParseConfig([]byte(`
-input:
-  columns:
-    case_id: "Numéro"
-    onset_date: "Début"
-  date_format: dmy
-  delimiter: ";"
-jurisdiction: "Rapport"
-`))
-	if err != nil {
+func ExampleParseInput() {
+	var doc yaml.Node
+	_ = yaml.Unmarshal([]byte(`
+columns:
+  case_id: "Numéro"
+  onset_date: "Début"
+date_format: dmy
+delimiter: ";"
+`), &doc)
+	var in linelist.InputConfig
+	if err := linelist.ParseInput(doc.Content[0], &in); err != nil {
 		fmt.Println(err)
 		return
 	}
-	ll, err := linelist.Read(strings.NewReader("Numéro;Début\nX1;25/04/2026\n"), linelist.Options{Config: cfg})
+	ll, err := linelist.Read(strings.NewReader("Numéro;Début\nX1;25/04/2026\n"), linelist.Options{Input: in})
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
 	fmt.Println(ll.Cases[0].ID, ll.Cases[0].Onset, ll.Mapping["onset_date"])
 
-	_, err = linelist.ParseConfig([]byte("input:\n  columns:\n    onset_date: Date\n    report_date: Date\n"))
-	fmt.Println(err)
+	_ = yaml.Unmarshal([]byte("columns:\n  onset_date: Date\n  report_date: Date\n"), &doc)
+	fmt.Println(linelist.ParseInput(doc.Content[0], &in))
 	// Output:
 	// X1 2026-04-25 Début
-	// bad_config: config line 4: input.columns maps both onset_date and report_date to the column "Date"; each export column can feed only one canonical column
+	// line 3: bad_config: input.columns maps both onset_date and report_date to the column "Date"; each export column can feed only one canonical column
 }

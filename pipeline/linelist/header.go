@@ -47,7 +47,7 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 		for hi, h := range header { // exact match (after trimming) first
 			if strings.TrimSpace(h) == want {
 				if found >= 0 {
-					return nil, nil, &FileError{Code: FileAmbiguousColumn, Message: fmt.Sprintf("the config maps %s to %q, but the file has that header twice (columns %d and %d); rename one in the export", col, clip(want), found+1, hi+1)}
+					return nil, nil, &FileError{Code: FileAmbiguousColumn, Err: fmt.Errorf("the config maps %s to %q, but the file has that header twice (columns %d and %d); rename one in the export", col, clip(want), found+1, hi+1)}
 				}
 				found = hi
 			}
@@ -56,14 +56,14 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 			for hi, h := range header {
 				if strings.EqualFold(strings.TrimSpace(h), want) {
 					if found >= 0 {
-						return nil, nil, &FileError{Code: FileAmbiguousColumn, Message: fmt.Sprintf("the config maps %s to %q, which matches columns %d (%q) and %d (%q) ignoring case; rename one in the export or match the exact spelling", col, clip(want), found+1, clip(header[found]), hi+1, clip(h))}
+						return nil, nil, &FileError{Code: FileAmbiguousColumn, Err: fmt.Errorf("the config maps %s to %q, which matches columns %d (%q) and %d (%q) ignoring case; rename one in the export or match the exact spelling", col, clip(want), found+1, clip(header[found]), hi+1, clip(h))}
 					}
 					found = hi
 				}
 			}
 		}
 		if found < 0 {
-			return nil, nil, &FileError{Code: FileMissingColumn, Message: fmt.Sprintf("the config maps %s to the column %q, which this file does not have; %s; fix input.columns.%s in the config or the export", col, clip(want), headersSeen(header, delim), col)}
+			return nil, nil, &FileError{Code: FileMissingColumn, Err: fmt.Errorf("the config maps %s to the column %q, which this file does not have; %s; fix input.columns.%s in the config or the export", col, clip(want), headersSeen(header, delim), col)}
 		}
 		idx[ci] = found
 		taken[found] = col
@@ -89,7 +89,7 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 					continue
 				}
 				if best >= 0 && bestRank == rank {
-					return nil, nil, &FileError{Code: FileAmbiguousColumn, Message: fmt.Sprintf("columns %d (%q) and %d (%q) could both be %s; rename one in the export or map %s in the config under input.columns", best+1, clip(header[best]), hi+1, clip(header[hi]), col, col)}
+					return nil, nil, &FileError{Code: FileAmbiguousColumn, Err: fmt.Errorf("columns %d (%q) and %d (%q) could both be %s; rename one in the export or map %s in the config under input.columns", best+1, clip(header[best]), hi+1, clip(header[hi]), col, col)}
 				}
 				if best < 0 {
 					best, bestRank = hi, rank
@@ -109,7 +109,7 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 	for ci, cd := range columns {
 		if cd.Required && idx[ci] < 0 {
 			col := cd.Name
-			return nil, nil, &FileError{Code: FileMissingColumn, Message: fmt.Sprintf("required column %s not found; headers accepted for it (ignoring case, spaces, hyphens, underscores and dots): %s; %s; rename the column in the export or map it in the jurisdiction config, e.g. input.columns.%s: \"Your Header\"", col, strings.Join(cd.Variants, ", "), headersSeen(header, delim), col)}
+			return nil, nil, &FileError{Code: FileMissingColumn, Err: fmt.Errorf("required column %s not found; headers accepted for it (ignoring case, spaces, hyphens, underscores and dots): %s; %s; rename the column in the export or map it in the jurisdiction config, e.g. input.columns.%s: \"Your Header\"", col, strings.Join(cd.Variants, ", "), headersSeen(header, delim), col)}
 		}
 	}
 	return idx, mapping, nil

@@ -61,3 +61,31 @@ func SortProblems(ps []Problem) {
 		return ps[i].Code < ps[j].Code
 	})
 }
+
+// Meaning says in plain words what the problem code means and what was done, without
+// quoting any value of the row (reports show it in place of the message).
+func (c Code) Meaning() string {
+	switch c {
+	case CodeFieldCount:
+		return "the row has a different number of fields from the header; the row was not used"
+	case CodeMissingID:
+		return "the case identifier is blank; the row was not used"
+	case CodeDuplicateID:
+		return "the case identifier appeared on an earlier row; this row was not used"
+	case CodeBadDate:
+		return "a date could not be read; an unreadable onset date means the row was not used"
+	case CodeBadValue:
+		return "a value could not be read; it was dropped and the case kept"
+	case CodeUnknownInfector:
+		return "the infector named matches no case; the link was dropped and the case kept as unlinked"
+	case CodeSelfInfector:
+		return "the case names itself as its infector; the link was dropped"
+	case CodeCycle:
+		return "the case lies on a cycle of infector links; the links on the cycle were dropped"
+	case CodeOnsetBeforeInfector:
+		return "the onset precedes the infector's onset; the link was kept (pre-symptomatic transmission can do this)"
+	case CodeFutureOnset:
+		return "the onset is after the analysis date; the case was kept"
+	}
+	return "a problem with this row"
+}

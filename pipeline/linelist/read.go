@@ -18,9 +18,9 @@ import (
 
 // Options control one read.
 type Options struct {
-	// Config is the jurisdiction config; nil reads with defaults (recognised header
-	// variants, ISO dates only, sniffed delimiter, detected encoding).
-	Config *Config
+	// Input is how the jurisdiction's export is read; the zero value reads with defaults
+	// (recognised header variants, ISO dates only, sniffed delimiter, detected encoding).
+	Input InputConfig
 	// AsOf is the analysis date: onsets after it draw a future_onset warning. The zero Day
 	// (1970-01-01, never a plausible analysis date) switches the check off.
 	AsOf Day
@@ -65,20 +65,31 @@ const (
 	FileReadError           FileCode = "read_error"           // the bytes could not be read
 )
 
-// FileError is a problem that stops a file (or config) from being read at all. The CLI
-// maps it to exit status 1.
+// FileError is a problem that stops a file (a line list or a config) from being read at all,
+// in the manner of encoding/csv's ParseError: where it is (Path, Line), what kind (Code) and
+// the cause, which says what is wrong and what to do about it (Err). The CLI maps it to exit
+// status 1.
 type FileError struct {
-	Path    string // file the error is about, when known
-	Code    FileCode
-	Message string // says what is wrong and what to do about it
+	Path string // file the error is about, when known
+	Line int    // 1-based line of the file, 0 for the file as a whole
+	Code FileCode
+	Err  error
 }
 
 func (e *FileError) Error() string {
+	var b strings.Builder
 	if e.Path != "" {
-		return fmt.Sprintf("%s: %s: %s", e.Path, e.Code, e.Message)
+		b.WriteString(e.Path)
+		b.WriteString(": ")
 	}
-	return fmt.Sprintf("%s: %s", e.Code, e.Message)
+	if e.Line > 0 {
+		fmt.Fprintf(&b, "line %d: ", e.Line)
+	}
+	fmt.Fprintf(&b, "%s: %v", e.Code, e.Err)
+	return b.String()
 }
+
+func (e *FileError) Unwrap() error { return e.Err }
 
 // prefixSize is how much of the file is inspected before reading (binary content, BOM,
 // delimiter). It is also the read buffer's size.
@@ -91,7 +102,7 @@ var utf8BOM = []byte{0xEF, 0xBB, 0xBF}
 func ReadFile(path string, opts Options) (*LineList, error) {
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, &FileError{Path: path, Code: FileReadError, Message: fmt.Sprintf("cannot open the file: %v", err)}
+		return nil, &FileError{Path: path, Code: FileReadError, Err: fmt.Errorf("cannot open the file: %v", err)}
 	}
 	defer f.Close()
 	size := int64(-1)
@@ -110,7 +121,7 @@ func ReadFile(path string, opts Options) (*LineList, error) {
 	// The CSV reader stops at end of input, so nothing should remain; hash any remainder
 	// anyway so the checksum always covers the whole file.
 	if _, err := io.Copy(h, f); err != nil {
-		return nil, &FileError{Path: path, Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+		return nil, &FileError{Path: path, Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
 	}
 	ll.SHA256 = hex.EncodeToString(h.Sum(nil))
 	return ll, nil
@@ -140,14 +151,11 @@ type reader struct {
 }
 
 func read(src io.Reader, size int64, opts Options) (*LineList, error) {
-	var in InputConfig
-	if opts.Config != nil {
-		in = opts.Config.Input
-	}
+	in := opts.Input
 	br := bufio.NewReaderSize(src, prefixSize)
 	prefix, err := br.Peek(prefixSize)
 	if err != nil && err != io.EOF && err != bufio.ErrBufferFull {
-		return nil, &FileError{Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+		return nil, &FileError{Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
 	}
 	atEOF := err == io.EOF
 	bom := bytes.HasPrefix(prefix, utf8BOM)
@@ -156,13 +164,13 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		prefix = prefix[len(utf8BOM):]
 	}
 	if bytes.HasPrefix(prefix, []byte{0xFF, 0xFE}) || bytes.HasPrefix(prefix, []byte{0xFE, 0xFF}) {
-		return nil, &FileError{Code: FileUnsupportedEncoding, Message: "the file is UTF-16 (it starts with a UTF-16 byte-order mark); export it again as UTF-8 CSV"}
+		return nil, &FileError{Code: FileUnsupportedEncoding, Err: errors.New("the file is UTF-16 (it starts with a UTF-16 byte-order mark); export it again as UTF-8 CSV")}
 	}
 	if atEOF && len(bytes.TrimSpace(prefix)) == 0 {
-		return nil, &FileError{Code: FileEmpty, Message: "the file is empty; export the line list again with its header and rows"}
+		return nil, &FileError{Code: FileEmpty, Err: errors.New("the file is empty; export the line list again with its header and rows")}
 	}
 	if looksBinary(prefix) {
-		return nil, &FileError{Code: FileNotCSV, Message: "the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)"}
+		return nil, &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)")}
 	}
 
 	var delim rune
@@ -184,11 +192,11 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 	rec, err := cr.Read()
 	switch {
 	case err == io.EOF:
-		return nil, &FileError{Code: FileEmpty, Message: "the file has only blank lines; export the line list again with its header and rows"}
+		return nil, &FileError{Code: FileEmpty, Err: errors.New("the file has only blank lines; export the line list again with its header and rows")}
 	case err != nil:
 		var pe *csv.ParseError
 		if errors.As(err, &pe) {
-			return nil, &FileError{Code: FileNoHeader, Message: fmt.Sprintf("the header line cannot be split into column names (%v at line %d, byte %d); fix the quotes in the header", pe.Err, pe.Line, pe.Column)}
+			return nil, &FileError{Code: FileNoHeader, Err: fmt.Errorf("the header line cannot be split into column names (%v at line %d, byte %d); fix the quotes in the header", pe.Err, pe.Line, pe.Column)}
 		}
 		return nil, readErr(err)
 	}
@@ -201,7 +209,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		}
 	}
 	if blank {
-		return nil, &FileError{Code: FileNoHeader, Message: "the first line has no column names; the file must start with a header line such as case_id,infector_id,onset_date"}
+		return nil, &FileError{Code: FileNoHeader, Err: errors.New("the first line has no column names; the file must start with a header line such as case_id,infector_id,onset_date")}
 	}
 	idx, mapping, err := mapHeader(header, in, delim)
 	if err != nil {
@@ -231,7 +239,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		for _, r := range b.recs {
 			ll.Rows++
 			if opts.MaxRows > 0 && ll.Rows > opts.MaxRows {
-				return nil, &FileError{Code: FileTooManyRows, Message: fmt.Sprintf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
+				return nil, &FileError{Code: FileTooManyRows, Err: fmt.Errorf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
 			}
 			switch {
 			case r.pe != nil:
@@ -249,7 +257,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		recycle(b)
 	}
 	if ll.Rows == 0 {
-		return nil, &FileError{Code: FileNoDataRows, Message: "the file has a header but no data rows; check that the export included the cases"}
+		return nil, &FileError{Code: FileNoDataRows, Err: errors.New("the file has a header but no data rows; check that the export included the cases")}
 	}
 	rd.dropDuplicates()
 	ll.Encoding = dec.encoding()
@@ -258,7 +266,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 }
 
 func readErr(err error) error {
-	return &FileError{Code: FileReadError, Message: fmt.Sprintf("cannot read the file: %v", err)}
+	return &FileError{Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
 }
 
 // presize grows Cases once to the row count the file size suggests, so a large file does

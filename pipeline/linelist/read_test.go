@@ -153,27 +153,27 @@ func TestDecoding(t *testing.T) {
 	tests := []struct {
 		name     string
 		data     string
-		cfg      *Config
+		in       InputConfig
 		delim    rune
 		enc      string
 		settings []string
 	}{
-		{"BOM and CRLF", "\xef\xbb\xbfcase_id,onset_date,setting\r\nA,2026-01-02,home\r\nB,2026-01-03,\"a\r\nb\"\r\n", nil, ',', EncUTF8BOM, []string{"home", "a\nb"}},
-		{"semicolon", "case_id;onset_date;setting;note\nA;2026-01-02;home;x,y\nB;2026-01-03;work;z\n", nil, ';', EncUTF8, []string{"home", "work"}},
-		{"tab", "case_id\tonset_date\tsetting\nA\t2026-01-02\thome, garden\nB\t2026-01-03\twork\n", nil, '\t', EncUTF8, []string{"home, garden", "work"}},
-		{"latin-1 detected", latin1, nil, ',', EncWindows1252, []string{"café", "crèche"}},
-		{"latin-1 configured", latin1, &Config{Input: InputConfig{Encoding: "latin-1"}}, ',', EncLatin1, []string{"café", "crèche"}},
-		{"windows-1252 detected", cp1252, nil, ';', EncWindows1252, []string{"\u201cquoted\u201d", "€ cost"}},
-		{"utf-8 non-ASCII", "case_id,onset_date,setting\nA,2026-01-02,crèche\nB,2026-01-03,café\n", nil, ',', EncUTF8, []string{"crèche", "café"}},
-		{"delimiter override", "case_id;onset_date,setting\nA;x,home\n", &Config{Input: InputConfig{Delimiter: ";"}}, ';', EncUTF8, nil},
+		{"BOM and CRLF", "\xef\xbb\xbfcase_id,onset_date,setting\r\nA,2026-01-02,home\r\nB,2026-01-03,\"a\r\nb\"\r\n", InputConfig{}, ',', EncUTF8BOM, []string{"home", "a\nb"}},
+		{"semicolon", "case_id;onset_date;setting;note\nA;2026-01-02;home;x,y\nB;2026-01-03;work;z\n", InputConfig{}, ';', EncUTF8, []string{"home", "work"}},
+		{"tab", "case_id\tonset_date\tsetting\nA\t2026-01-02\thome, garden\nB\t2026-01-03\twork\n", InputConfig{}, '\t', EncUTF8, []string{"home, garden", "work"}},
+		{"latin-1 detected", latin1, InputConfig{}, ',', EncWindows1252, []string{"café", "crèche"}},
+		{"latin-1 configured", latin1, InputConfig{Encoding: "latin-1"}, ',', EncLatin1, []string{"café", "crèche"}},
+		{"windows-1252 detected", cp1252, InputConfig{}, ';', EncWindows1252, []string{"\u201cquoted\u201d", "€ cost"}},
+		{"utf-8 non-ASCII", "case_id,onset_date,setting\nA,2026-01-02,crèche\nB,2026-01-03,café\n", InputConfig{}, ',', EncUTF8, []string{"crèche", "café"}},
+		{"delimiter override", "case_id;onset_date,setting\nA;x,home\n", InputConfig{Delimiter: ";"}, ';', EncUTF8, nil},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			ll, err := Read(strings.NewReader(tt.data), Options{Config: tt.cfg})
+			ll, err := Read(strings.NewReader(tt.data), Options{Input: tt.in})
 			if tt.settings == nil {
 				// delimiter override: the header splits into "case_id" and "onset_date,setting".
 				var fe *FileError
-				if !errors.As(err, &fe) || fe.Code != FileMissingColumn || !strings.Contains(fe.Message, `"onset_date,setting"`) {
+				if !errors.As(err, &fe) || fe.Code != FileMissingColumn || !strings.Contains(fe.Err.Error(), `"onset_date,setting"`) {
 					t.Fatalf("err = %v; want missing_column showing the header split on ';'", err)
 				}
 				return
@@ -203,11 +203,15 @@ func TestDecoding(t *testing.T) {
 }
 
 func TestConfigDayFirst(t *testing.T) {
-	cfg, err := LoadConfig(filepath.Join("testdata", "linelist", "dayfirst.yaml"))
+	raw, err := os.ReadFile(filepath.Join("testdata", "linelist", "dayfirst.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	ll, err := ReadFile(filepath.Join("testdata", "linelist", "dayfirst.csv"), Options{Config: cfg})
+	in, err := parseInputYAML(string(raw))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ll, err := ReadFile(filepath.Join("testdata", "linelist", "dayfirst.csv"), Options{Input: in})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -254,7 +258,7 @@ func TestFileErrors(t *testing.T) {
 		{"100,000 columns", strings.Join(wide, ",") + "\n", Options{}, FileMissingColumn,
 			[]string{"case_id", "100000 columns", "and 99980 more"}},
 		{"configured column absent", "case_id,onset_date\nA,2026-01-01\n",
-			Options{Config: &Config{Input: InputConfig{Columns: map[string]string{ColInfectorID: "Source"}}}},
+			Options{Input: InputConfig{Columns: map[string]string{ColInfectorID: "Source"}}},
 			FileMissingColumn, []string{"infector_id", `"Source"`}},
 		{"ambiguous", "Case ID,case_id,onset_date\nA,B,2026-01-01\n", Options{}, FileAmbiguousColumn, []string{"Case ID", "case_id", "input.columns"}},
 		{"too many rows", "case_id,onset_date\nA,2026-01-01\nB,2026-01-01\nC,2026-01-01\n", Options{MaxRows: 2}, FileTooManyRows, []string{"more than 2"}},
@@ -267,15 +271,15 @@ func TestFileErrors(t *testing.T) {
 				t.Fatalf("err = %v (list %v); want *FileError %s", err, ll, tt.code)
 			}
 			if fe.Code != tt.code {
-				t.Fatalf("code = %s (%s), want %s", fe.Code, fe.Message, tt.code)
+				t.Fatalf("code = %s (%s), want %s", fe.Code, fe.Err.Error(), tt.code)
 			}
 			for _, s := range tt.message {
-				if !strings.Contains(fe.Message, s) {
-					t.Errorf("message %q lacks %q", fe.Message, s)
+				if !strings.Contains(fe.Err.Error(), s) {
+					t.Errorf("message %q lacks %q", fe.Err.Error(), s)
 				}
 			}
-			if len(fe.Message) > 2000 {
-				t.Errorf("message is %d bytes long", len(fe.Message))
+			if len(fe.Err.Error()) > 2000 {
+				t.Errorf("message is %d bytes long", len(fe.Err.Error()))
 			}
 		})
 	}
