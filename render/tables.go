@@ -12,7 +12,6 @@ import (
 	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
-	"github.com/caseweave/caseweave/pipeline/linelist"
 )
 
 // table is one report table: the same rows feed the Markdown table and the CSV file.
@@ -73,279 +72,43 @@ func (f cellFmt) interval(b [2]*float64, digits int) string {
 	return lo + " to " + hi
 }
 
-// superspreadersShown caps the superspreader table.
-const superspreadersShown = 25
+// tableDef is one table a template can print with table "name" (and --tables writes as
+// CSV): each is defined, and registered by an init function, in its own table_<name>.go file.
+type tableDef struct {
+	name  string
+	order int // place in TableNames, report order
+	// build makes the table from Summary fields only; ok is false when there is no data.
+	build func(st *renderState, f cellFmt) (t table, ok bool, err error)
+}
+
+// tableDefs holds every table by name; filled by the init functions of the table files and
+// only read afterwards.
+var tableDefs = map[string]tableDef{}
+
+func registerTable(name string, order int, build func(st *renderState, f cellFmt) (table, bool, error)) {
+	if _, dup := tableDefs[name]; dup {
+		panic("render: table " + name + " registered twice")
+	}
+	tableDefs[name] = tableDef{name: name, order: order, build: build}
+}
 
 // TableNames lists the tables a template can ask for with table "name", in report order.
 func TableNames() []string {
-	return []string{"problems", "estimates", "models", "strata", "superspreaders", "cluster_sizes",
-		"largest_trees", "projections", "age_mixing", "epicurve", "serial_models", "weekly_r", "end_of_outbreak"}
+	names := make([]string, 0, len(tableDefs))
+	for n := range tableDefs {
+		names = append(names, n)
+	}
+	slices.SortFunc(names, func(a, b string) int { return tableDefs[a].order - tableDefs[b].order })
+	return names
 }
 
 // buildTable builds the named table; ok is false when the Summary has no data for it.
 func (st *renderState) buildTable(name string, f cellFmt) (t table, ok bool, err error) {
-	s := st.s
-	thr := st.cfg.suppress()
-	switch name {
-	case "problems":
-		if len(s.ProblemCounts) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"Problem", "What it means", "Severity", "Rows", "First rows"}
-		t.Numeric = []bool{false, false, false, true, false}
-		for _, p := range s.ProblemCounts {
-			rows := make([]string, len(p.FirstRows))
-			for i, r := range p.FirstRows {
-				rows[i] = strconv.Itoa(r)
-			}
-			t.Rows = append(t.Rows, []string{string(p.Code), p.Code.Meaning(), string(p.Severity), f.int(p.Count), strings.Join(rows, " ")})
-		}
-	case "estimates":
-		o := s.Offspring
-		if o == nil {
-			return t, false, nil
-		}
-		lv := st.levelText()
-		t.Header = []string{"Quantity", "Estimate", lv + " interval, percentile", lv + " interval, BCa"}
-		t.Numeric = []bool{false, true, true, true}
-		add := func(q string, e analysis.Estimate, d int) {
-			t.Rows = append(t.Rows, []string{q, f.numPtr(e.Estimate, d), f.interval(e.Percentile, d), f.interval(e.BCa, d)})
-		}
-		add("Reproduction number R (mean offspring)", o.R, 2)
-		if o.PoissonLimit {
-			t.Rows = append(t.Rows, []string{"Dispersion k", "no finite value (variance ≤ mean)", f.interval(o.K.Percentile, 2), f.interval(o.K.BCa, 2)})
-		} else {
-			add("Dispersion k", o.K, 2)
-		}
-		if out := s.Outlook; out != nil {
-			add("Chance one introduction dies out", out.ExtinctionProbability, 3)
-			add("Chance one introduction starts a major outbreak", out.MajorOutbreakProbability, 3)
-			add("Share of cases causing 80% of transmission (model)", out.ShareCausing80pct, 3)
-		}
-		if o.ShareCausing80pctObserved != nil {
-			t.Rows = append(t.Rows, []string{"Share of cases causing 80% of transmission (observed)", f.num(*o.ShareCausing80pctObserved, 3), "", ""})
-		}
-		t.Rows = append(t.Rows, []string{"Share of cases who infected no one", f.num(o.ZeroShare, 3), "", ""})
-	case "models":
-		if s.Offspring == nil || len(s.Offspring.Models) == 0 {
-			return t, false, nil
-		}
-		// One column per parameter any model has (R first), then their standard errors.
-		var names []string
-		for _, m := range s.Offspring.Models {
-			for _, p := range m.Parameters {
-				if !slices.Contains(names, p.Name) {
-					names = append(names, p.Name)
-				}
-			}
-		}
-		t.Header = append([]string{"Model"}, names...)
-		for _, n := range names {
-			t.Header = append(t.Header, "SE of "+n)
-		}
-		t.Header = append(t.Header, "Log-likelihood", "AIC", "ΔAIC")
-		t.Numeric = []bool{false}
-		for range t.Header[1:] {
-			t.Numeric = append(t.Numeric, true)
-		}
-		for _, m := range s.Offspring.Models {
-			n := modelName(m.Name)
-			if m.Name == s.Offspring.BestModel {
-				n += " (best)"
-			}
-			est, se := make([]string, len(names)), make([]string, len(names))
-			for _, p := range m.Parameters {
-				i := slices.Index(names, p.Name)
-				est[i], se[i] = f.numPtr(p.Estimate, 3), f.numPtr(p.SE, 3)
-			}
-			row := append(append(append([]string{n}, est...), se...), f.num(m.LogLik, 2), f.num(m.AIC, 2), f.num(m.DeltaAIC, 2))
-			t.Rows = append(t.Rows, row)
-		}
-	case "strata":
-		if len(s.Strata) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"Column", "Value", "Cases", "Mean offspring"}
-		t.Numeric = []bool{false, false, true, true}
-		for _, x := range s.Strata {
-			mean := f.numPtr(x.MeanOffspring, 2)
-			if x.Cases == nil || x.MeanOffspring == nil {
-				mean = "withheld"
-			}
-			t.Rows = append(t.Rows, []string{x.Column, x.Value, countText(x.Cases, thr), mean})
-		}
-	case "superspreaders":
-		if s.Offspring == nil || len(s.Offspring.Superspreaders) == 0 {
-			return t, false, nil
-		}
-		// The cases who infected most, capped so that a national list does not print tens of
-		// thousands of rows; the last row says how many more there are.
-		t.Header = []string{"Case", "People infected"}
-		t.Numeric = []bool{false, true}
-		o := s.Offspring
-		for k, id := range o.Superspreaders {
-			if k == superspreadersShown {
-				t.Rows = append(t.Rows, []string{fmt.Sprintf("and %s more", f.int(len(o.Superspreaders)-k)), fmt.Sprintf("more than %d each", o.SSEThreshold)})
-				break
-			}
-			n := fmt.Sprintf("more than %d", o.SSEThreshold)
-			if k < len(o.SuperspreaderOffspring) {
-				n = f.int(o.SuperspreaderOffspring[k])
-			}
-			t.Rows = append(t.Rows, []string{st.pseudonym(id), n})
-		}
-	case "cluster_sizes":
-		if s.Clusters == nil || len(s.Clusters.SizeHistogram) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"Chain size (cases)", "Chains", "Still growing", "Expected by the model"}
-		t.Numeric = []bool{true, true, true, true}
-		for _, c := range s.Clusters.SizeHistogram {
-			t.Rows = append(t.Rows, []string{f.int(c.Size), f.int(c.Count), f.int(c.Censored), f.numPtr(c.Expected, 1)})
-		}
-	case "largest_trees":
-		if s.Clusters == nil || len(s.Clusters.Largest) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"First case", "Cases", "Generations", "First onset", "Cases not drawn"}
-		t.Numeric = []bool{false, true, true, false, true}
-		for _, tr := range s.Clusters.Largest {
-			t.Rows = append(t.Rows, []string{st.pseudonym(tr.Root), f.int(tr.Size), f.int(tr.Depth), tr.Start.String(), f.int(tr.Hidden)})
-		}
-	case "projections":
-		if s.Outlook == nil || len(s.Outlook.Projection) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"Generations ahead", "Expected cases", "50% prediction interval", "90% prediction interval", "Chance of no cases"}
-		t.Numeric = []bool{true, true, true, true, true}
-		for _, p := range s.Outlook.Projection {
-			t.Rows = append(t.Rows, []string{f.int(p.Generation), f.numPtr(p.Mean, 1),
-				f.countRange(p.P50), f.countRange(p.P90), f.num(p.PZero, 3)})
-		}
-	case "age_mixing":
-		a := s.AgeMixing
-		if a == nil || len(a.Groups) == 0 {
-			return t, false, nil
-		}
-		t.Header = append([]string{"Infector age \u2192 infectee age"}, a.Groups...)
-		t.Numeric = []bool{false}
-		for range a.Groups {
-			t.Numeric = append(t.Numeric, true)
-		}
-		for i, g := range a.Groups {
-			row := []string{g}
-			for j := range a.Groups {
-				var c *int
-				if i < len(a.Counts) && j < len(a.Counts[i]) {
-					c = a.Counts[i][j]
-				}
-				row = append(row, countText(c, thr))
-			}
-			t.Rows = append(t.Rows, row)
-		}
-	case "epicurve":
-		e := s.EpiCurve
-		if e == nil || len(e.Weeks) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"ISO week", "Week starting", "All cases"}
-		t.Numeric = []bool{false, false, true}
-		for _, sr := range e.Series {
-			t.Header = append(t.Header, sr.Name)
-			t.Numeric = append(t.Numeric, true)
-		}
-		for i, w := range e.Weeks {
-			row := []string{weekText(w), w.String(), ""}
-			if i < len(e.Total) {
-				row[2] = countText(&e.Total[i], thr)
-			}
-			for _, sr := range e.Series {
-				var c *int
-				if i < len(sr.Counts) {
-					c = sr.Counts[i]
-				}
-				row = append(row, countText(c, thr))
-			}
-			t.Rows = append(t.Rows, row)
-		}
-	case "serial_models":
-		si := s.SerialInterval
-		if si == nil || len(si.Models) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"Model", "Mean (days)", "SD (days)", "Parameters", "Log-likelihood", "AIC"}
-		t.Numeric = []bool{false, true, true, false, true, true}
-		for _, m := range si.Models {
-			keys := make([]string, 0, len(m.Params))
-			for k := range m.Params {
-				keys = append(keys, k)
-			}
-			slices.Sort(keys)
-			ps := make([]string, len(keys))
-			for i, k := range keys {
-				ps[i] = k + " = " + f.num(m.Params[k], 3)
-			}
-			n := modelName(m.Name)
-			if m.Name == si.BestModel {
-				n += " (best)"
-			}
-			t.Rows = append(t.Rows, []string{n, f.num(m.Mean, 2), f.num(m.SD, 2), strings.Join(ps, "; "), f.num(m.LogLik, 2), f.num(m.AIC, 2)})
-		}
-	case "weekly_r":
-		if len(s.TimeVarying) == 0 {
-			return t, false, nil
-		}
-		t.Header = []string{"ISO week", "Week starting", "Cases", "R", "Lower", "Upper", "Complete?"}
-		t.Numeric = []bool{false, false, true, true, true, true, false}
-		for _, w := range s.TimeVarying {
-			c := w.Cases
-			done := "yes"
-			if w.Censored {
-				done = "no: recent, still counting"
-			}
-			r, lo, hi := f.num(w.R, 2), f.numPtr(w.Lower, 2), f.numPtr(w.Upper, 2)
-			if c > 0 && c < thr {
-				r, lo, hi = "withheld", "", ""
-			}
-			t.Rows = append(t.Rows, []string{weekText(w.WeekStart), w.WeekStart.String(), countText(&c, thr), r, lo, hi, done})
-		}
-	case "end_of_outbreak":
-		e := s.EndOfOutbreak
-		if e == nil {
-			return t, false, nil
-		}
-		t.Header = []string{"Milestone", "Date"}
-		t.Rows = append(t.Rows, []string{"Last onset", e.LastOnset.String()})
-		if e.P95Date != nil {
-			t.Rows = append(t.Rows, []string{"95% chance no further cases", e.P95Date.String()})
-		}
-		if e.P99Date != nil {
-			t.Rows = append(t.Rows, []string{"99% chance no further cases", e.P99Date.String()})
-		}
-		if rt := st.ruleOfThumb(); rt != nil {
-			t.Rows = append(t.Rows, []string{fmt.Sprintf("Twice the longest incubation period (%d days) after the last onset", rt.LongestIncubationDays), rt.Date.String()})
-		}
-	default:
+	d, found := tableDefs[name]
+	if !found {
 		return t, false, fmt.Errorf("table: unknown table %q (known: %s)", name, strings.Join(TableNames(), ", "))
 	}
-	return t, true, nil
-}
-
-// ruleOfThumb is the Summary's rule-of-thumb date, or one computed from config.yaml's
-// incubation_days (twice the longest incubation period after the last onset; common practice).
-func (st *renderState) ruleOfThumb() *analysis.RuleOfThumb {
-	e := st.s.EndOfOutbreak
-	if e == nil {
-		return nil
-	}
-	if e.RuleOfThumb != nil {
-		return e.RuleOfThumb
-	}
-	if st.cfg.IncubationDays == nil {
-		return nil
-	}
-	d := *st.cfg.IncubationDays
-	return &analysis.RuleOfThumb{LongestIncubationDays: d, Date: e.LastOnset + linelist.Day(2*d)}
+	return d.build(st, f)
 }
 
 // markdownTable writes t as a GFM table with every cell escaped (a | in data is \|).
