@@ -5,7 +5,7 @@ import "testing"
 func BenchmarkRender(b *testing.B) {
 	s := fixtureSummary()
 	for b.Loop() {
-		if _, err := Render(s, Options{}); err != nil {
+		if _, err := Render(released(s), Options{}); err != nil {
 			b.Fatal(err)
 		}
 	}

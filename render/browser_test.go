@@ -2,6 +2,7 @@ package render
 
 import (
 	"context"
+	"github.com/caseweave/caseweave/render/browser"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -15,7 +16,7 @@ func needBrowser(t *testing.T) {
 	if os.Getenv("CASEWEAVE_SKIP_BROWSER") == "1" {
 		t.Skip("CASEWEAVE_SKIP_BROWSER=1")
 	}
-	if err := BrowserAvailable(); err != nil {
+	if err := browser.BrowserAvailable(); err != nil {
 		t.Fatalf("browser tests: %v (or set CASEWEAVE_SKIP_BROWSER=1)", err)
 	}
 }
@@ -24,11 +25,11 @@ func TestBrowserDrawsEveryChartOffline(t *testing.T) {
 	needBrowser(t)
 	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
 	defer cancel()
-	html, err := Render(fixtureSummary(), Options{})
+	html, err := Render(released(fixtureSummary()), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	check, err := InspectInBrowser(ctx, html)
+	check, err := browser.InspectInBrowser(ctx, html)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -48,7 +49,7 @@ func TestBrowserCountsAndBlocksRequests(t *testing.T) {
 	needBrowser(t)
 	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
 	defer cancel()
-	check, err := InspectInBrowser(ctx, []byte(`<!DOCTYPE html><html><body><img src="http://example.invalid/pixel.png"><div data-cw-chart="x" id="x"></div></body></html>`))
+	check, err := browser.InspectInBrowser(ctx, []byte(`<!DOCTYPE html><html><body><img src="http://example.invalid/pixel.png"><div data-cw-chart="x" id="x"></div></body></html>`))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -67,11 +68,11 @@ func TestPrintPDFRendersToPNG(t *testing.T) {
 	}
 	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
 	defer cancel()
-	html, err := Render(fixtureSummary(), Options{})
+	html, err := Render(released(fixtureSummary()), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	pdf, err := PrintPDF(ctx, html)
+	pdf, err := browser.PrintPDF(ctx, html)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -80,7 +81,7 @@ func TestPrintPDFRendersToPNG(t *testing.T) {
 	}
 	dir := t.TempDir()
 	in := filepath.Join(dir, "report.pdf")
-	if err := WriteFileAtomic(in, pdf); err != nil {
+	if err := os.WriteFile(in, pdf, 0o644); err != nil {
 		t.Fatal(err)
 	}
 	if out, err := exec.CommandContext(ctx, "pdftoppm", "-r", "30", "-png", in, filepath.Join(dir, "page")).CombinedOutput(); err != nil {

@@ -2,7 +2,6 @@ package render
 
 import (
 	"fmt"
-	"strconv"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/go-echarts/go-echarts/v2/charts"
@@ -53,16 +52,15 @@ func (st *renderState) chartAgeMixing(a *analysis.AgeMixing) ([]chartSpec, strin
 		charts.WithYAxisOpts(ya),
 		charts.WithGridOpts(opts.Grid{Left: "40", Right: "28", Top: "40", Bottom: "36", ContainLabel: opts.Bool(true)}))...)
 	hm.SetXAxis(a.Groups)
-	supp := "fewer than " + strconv.Itoa(st.cfg.suppress())
 	hm.AddSeries("Links", cells, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 		s.Label = &opts.Label{Show: opts.Bool(true)}
 		s.ItemStyle = &opts.ItemStyle{BorderColor: "#ffffff", BorderWidth: 1}
 	}))
 	if len(hidden) > 0 {
-		hm.AddSeries("Suppressed", hidden, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
-			s.Label = &opts.Label{Show: opts.Bool(true), Formatter: "<" + strconv.Itoa(st.cfg.suppress()), Color: colMuted}
+		hm.AddSeries("Withheld", hidden, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+			s.Label = &opts.Label{Show: opts.Bool(true), Formatter: "·", Color: colMuted}
 			s.ItemStyle = &opts.ItemStyle{Color: "#eef0f2", BorderColor: "#ffffff", BorderWidth: 1}
-			s.SeriesTooltip = &opts.SeriesTooltip{Formatter: types.FuncStr("Suppressed: " + supp + " links")}
+			s.SeriesTooltip = &opts.SeriesTooltip{Formatter: types.FuncStr("Withheld to protect privacy")}
 		}))
 	}
 	obj, err := finish("age_mixing", &finite{}, hm, func(obj map[string]any) {
@@ -79,6 +77,6 @@ func (st *renderState) chartAgeMixing(a *analysis.AgeMixing) ([]chartSpec, strin
 			ys[0].Data = a.Groups
 		}
 	})
-	caption := fmt.Sprintf("Each cell counts infections from an infector in the row's age group to an infectee in the column's (%d links). Grey cells hold %s links and are not shown.", a.Links, supp)
+	caption := fmt.Sprintf("Each cell counts infections from an infector in the row's age group to an infectee in the column's (%d links). Grey cells are withheld: they hold fewer than %d links, or would let such a cell be worked out.", a.Links, st.threshold())
 	return one(chartSpec{ID: id, Title: "Infections by age group of infector and infectee", Caption: caption, Height: height, Option: obj}, err)
 }

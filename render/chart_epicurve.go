@@ -47,18 +47,24 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 		}
 		bar.AddSeries(sr.Name, data, charts.WithSeriesOpts(func(s *charts.SingleSeries) { s.Stack = "cases" }))
 	}
+	// The counts withheld in a week whose total is shown are drawn together in grey: the
+	// release keeps their sum at the threshold or above. A week whose total is withheld
+	// draws no height for what is withheld; a mark at its foot says so.
 	small := make([]opts.BarData, len(e.Weeks))
-	anySmall := false
+	anySmall, anyWithheld := false, false
+	var withheldBands []any
 	for i := range e.Weeks {
-		d := e.Total[i] - known[i]
-		if d > 0 {
+		small[i] = opts.BarData{Value: "-"}
+		switch {
+		case e.Total[i] == nil:
+			anyWithheld = true
+			withheldBands = append(withheldBands, []any{map[string]any{"xAxis": labels[i], "name": withheldText}, map[string]any{"xAxis": labels[i]}})
+		case *e.Total[i] > known[i]:
 			anySmall = true
-			small[i] = opts.BarData{Value: d}
-		} else {
-			small[i] = opts.BarData{Value: "-"}
+			small[i] = opts.BarData{Value: *e.Total[i] - known[i]}
 		}
 	}
-	if anySmall || len(e.Series) == 0 {
+	if anySmall || anyWithheld || len(e.Series) == 0 {
 		n := "Small groups, combined"
 		if len(e.Series) == 0 {
 			n = "All cases"
@@ -69,12 +75,20 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 			if len(e.Series) == 0 {
 				s.ItemStyle = nil
 			}
+			if anyWithheld {
+				s.MarkAreas = &opts.MarkAreas{Data: withheldBands, MarkAreaStyle: opts.MarkAreaStyle{
+					ItemStyle: &opts.ItemStyle{Color: "rgba(139,147,156,0.16)"},
+					Label:     &opts.Label{Show: opts.Bool(true), Position: "insideBottom", Color: colMuted, FontSize: 9}}}
+			}
 		}))
 	}
 	obj, err := finish("epicurve", f, bar, nil)
 	caption := "Each bar is one ISO week (Monday to Sunday) of symptom onset, stacked by setting."
 	if anySmall {
-		caption += fmt.Sprintf(" Settings with fewer than %d cases in a week are combined in grey so that no small group can be picked out.", st.cfg.suppress())
+		caption += fmt.Sprintf(" Counts withheld to protect privacy (fewer than %d cases, and the counts that would let them be worked out) are combined in grey.", st.threshold())
+	}
+	if anyWithheld {
+		caption += " Shaded weeks are withheld altogether: too few cases to show."
 	}
 	return one(chartSpec{ID: id, Title: "Cases by week of symptom onset", Caption: caption, Height: chartHeight, Option: obj}, err)
 }

@@ -33,11 +33,12 @@ func (st *renderState) chartTrees(c *analysis.Clusters) ([]chartSpec, string, er
 		nodes := make([]*opts.TreeData, len(tv.Nodes))
 		for i, n := range tv.Nodes {
 			size := 6 + 2.5*math.Sqrt(float64(max(n.Offspring, 0)))
-			val := "onset " + n.Onset.String() + ", generation " + strconv.Itoa(n.Generation) + ", infected " + strconv.Itoa(n.Offspring)
+			// The released view carries a case's onset week, never its date.
+			val := "onset in week " + weekText(n.Onset) + ", generation " + strconv.Itoa(n.Generation)
 			if n.Setting != "" {
 				val += ", " + n.Setting
 			}
-			nodes[i] = &opts.TreeData{Name: st.pseudonym(n.ID), Value: val, SymbolSize: round(size, 1)}
+			nodes[i] = &opts.TreeData{Name: n.ID, Value: val, SymbolSize: round(size, 1)}
 			if i == 0 {
 				nodes[i].ItemStyle = &opts.ItemStyle{Color: colAccent, BorderColor: colAccent}
 			}
@@ -71,12 +72,12 @@ func (st *renderState) chartTrees(c *analysis.Clusters) ([]chartSpec, string, er
 		if err != nil {
 			return nil, "", err
 		}
-		caption := fmt.Sprintf("%d cases over %d generations, first onset %s. Each dot is a case, each line an infection; larger dots infected more people; the red dot is the first case.",
-			tv.Size, tv.Depth, dayText(tv.Start))
+		caption := fmt.Sprintf("%d cases over %d generations, first onset in week %s. Each dot is a case, each line an infection; larger dots infected more people; the red dot is the first case.",
+			tv.Size, tv.Depth, weekText(tv.Start))
 		if tv.Hidden > 0 {
 			caption += fmt.Sprintf(" %d cases are not drawn, to keep the chart readable.", tv.Hidden)
 		}
-		specs = append(specs, chartSpec{ID: id, Title: fmt.Sprintf("Chain %d, starting with %s", ti+1, st.pseudonym(tv.Root)), Caption: caption, Height: height, Option: obj})
+		specs = append(specs, chartSpec{ID: id, Title: fmt.Sprintf("Chain %d, starting with %s", ti+1, tv.Root), Caption: caption, Height: height, Option: obj})
 	}
 	if len(specs) == 0 {
 		return nil, "No linked transmission chains to draw.", nil

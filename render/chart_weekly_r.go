@@ -26,14 +26,13 @@ func (st *renderState) chartWeeklyR(ws []analysis.WeekR) ([]chartSpec, string, e
 	up, lo := make([]opts.LineData, n), make([]opts.LineData, n)
 	done, recent := make([]opts.LineData, n), make([]opts.LineData, n)
 	firstCensored := -1
-	thr := st.cfg.suppress()
 	for i, w := range ws {
 		labels[i] = weekText(w.WeekStart)
 		up[i] = opts.LineData{Value: f.p(w.Upper, "an upper bound")}
 		lo[i] = opts.LineData{Value: f.p(w.Lower, "a lower bound")}
-		r := any(round(f.v(w.R, "a weekly R"), 3))
-		if w.Cases > 0 && w.Cases < thr {
-			r, up[i].Value, lo[i].Value = "-", "-", "-" // withheld with the small count
+		r := f.p(w.R, "a weekly R") // null when the release withheld the week
+		if v, ok := r.(float64); ok {
+			r = round(v, 3)
 		}
 		done[i], recent[i] = opts.LineData{Value: "-"}, opts.LineData{Value: "-"}
 		if w.Censored {

@@ -10,14 +10,12 @@ import (
 
 	"go.yaml.in/yaml/v3"
 
+	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 )
 
 // ConfigFile is the name of the report configuration inside a template folder.
 const ConfigFile = "config.yaml"
-
-// DefaultSuppressBelow is the small-count threshold when the configuration gives none.
-const DefaultSuppressBelow = 5
 
 // DefaultCaution is shown in the cautions section when config.yaml gives no caution text.
 const DefaultCaution = "These figures describe the cases that were reported and linked. " +
@@ -93,7 +91,7 @@ type Config struct {
 }
 
 // DefaultConfig is the configuration of a template folder without a config.yaml.
-func DefaultConfig() Config { return Config{SuppressBelow: DefaultSuppressBelow} }
+func DefaultConfig() Config { return Config{SuppressBelow: analysis.DefaultSuppressBelow} }
 
 // LoadConfig reads config.yaml from a template folder; a folder without one gets the
 // defaults. Errors are *linelist.FileError values with Code FileBadConfig and the line.
@@ -278,12 +276,4 @@ func (c *Config) title(section string) (string, error) {
 		}
 	}
 	return "", fmt.Errorf("unknown section %q (known: %s)", section, strings.Join(SectionNames(), ", "))
-}
-
-// suppress is the effective small-count threshold.
-func (c *Config) suppress() int {
-	if c.SuppressBelow < 1 {
-		return DefaultSuppressBelow
-	}
-	return c.SuppressBelow
 }

@@ -2,8 +2,6 @@ package render_test
 
 import (
 	"fmt"
-	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
@@ -20,7 +18,12 @@ func ExampleRender() {
 		Input:    analysis.Input{Path: "cases.csv", Rows: 10, Used: 10},
 		Tree:     analysis.Tree{Cases: 10, Linked: 6, Roots: 4, Clusters: 4},
 	}
-	html, err := render.Render(s, render.Options{})
+	released, err := analysis.Release(s, analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	html, err := render.Render(released, render.Options{})
 	if err != nil {
 		fmt.Println(err)
 		return
@@ -33,18 +36,6 @@ func ExampleParseConfig() {
 	_, err := render.ParseConfig("config.yaml", []byte("jurisdiction: North\nsuppres_below: 3\n"))
 	fmt.Println(err)
 	// Output: config.yaml: line 2: bad_config: unknown key "suppres_below" (known keys: input, jurisdiction, contact, suppress_below, labels, sections, caution, incubation_days, pseudonym_key)
-}
-
-func ExampleWriteFileAtomic() {
-	dir, _ := os.MkdirTemp("", "caseweave-example-")
-	defer os.RemoveAll(dir)
-	p := filepath.Join(dir, "report.html")
-	fmt.Println(render.WriteFileAtomic(p, []byte("<!DOCTYPE html>")))
-	b, _ := os.ReadFile(p)
-	fmt.Println(string(b))
-	// Output:
-	// <nil>
-	// <!DOCTYPE html>
 }
 
 func ExampleChartNames() {

@@ -41,17 +41,13 @@ func fixtureSummary() *analysis.Summary {
 	series := func(name string, c []int) analysis.Series {
 		out := analysis.Series{Name: name}
 		for _, n := range c {
-			if n > 0 && n < 5 {
-				out.Counts = append(out.Counts, nil)
-			} else {
-				out.Counts = append(out.Counts, ip(n))
-			}
+			out.Counts = append(out.Counts, ip(n)) // exact: the release withholds small ones
 		}
 		return out
 	}
-	total := make([]int, len(weeks))
+	total := make([]*int, len(weeks))
 	for i := range total {
-		total[i] = households[i] + schools[i] + care[i]
+		total[i] = ip(households[i] + schools[i] + care[i])
 	}
 
 	hist := []int{198, 74, 38, 19, 10, 6, 3, 2, 1, 0, 1}
@@ -122,7 +118,7 @@ func fixtureSummary() *analysis.Summary {
 	var wr []analysis.WeekR
 	for i, w := range weeks {
 		r := 1.6 - 0.09*float64(i)
-		wr = append(wr, analysis.WeekR{WeekStart: w, Cases: total[i], R: r, Lower: fp(r * 0.75), Upper: fp(r * 1.3), Censored: i >= 10})
+		wr = append(wr, analysis.WeekR{WeekStart: w, Cases: total[i], R: fp(r), Lower: fp(r * 0.75), Upper: fp(r * 1.3), Censored: i >= 10})
 	}
 	wr[0].Lower = nil
 
@@ -203,14 +199,14 @@ func fixtureSummary() *analysis.Summary {
 		},
 		AgeMixing: &analysis.AgeMixing{
 			Groups: []string{"0–17", "18–39", "40–64", "65+"},
-			Counts: [][]*int{{ip(41), ip(22), ip(9), nil}, {ip(30), ip(58), ip(25), ip(6)}, {ip(11), ip(27), ip(39), ip(14)}, {nil, ip(5), ip(12), ip(17)}},
+			Counts: [][]*int{{ip(41), ip(22), ip(9), ip(3)}, {ip(30), ip(58), ip(25), ip(6)}, {ip(11), ip(27), ip(39), ip(14)}, {ip(2), ip(5), ip(12), ip(17)}},
 			Links:  318,
 		},
 		Strata: []analysis.Stratum{
-			{Column: "setting", Value: "household", Cases: ip(203), MeanOffspring: fp(0.71)},
-			{Column: "setting", Value: "school", Cases: ip(75), MeanOffspring: fp(1.12)},
-			{Column: "setting", Value: "care home", Cases: ip(32), MeanOffspring: fp(0.94)},
-			{Column: "setting", Value: "prison", Cases: nil, MeanOffspring: nil},
+			{Column: "setting", Value: "household", Cases: ip(203), Counted: ip(180), MeanOffspring: fp(0.71)},
+			{Column: "setting", Value: "school", Cases: ip(75), Counted: ip(66), MeanOffspring: fp(1.12)},
+			{Column: "setting", Value: "care home", Cases: ip(32), Counted: ip(30), MeanOffspring: fp(0.94)},
+			{Column: "setting", Value: "prison", Cases: ip(3), Counted: ip(3), MeanOffspring: fp(0.33)},
 		},
 		Notes: []string{"The geometric model was fitted for comparison only."},
 	}

@@ -2,9 +2,6 @@ package render
 
 import (
 	"bytes"
-	"crypto/hmac"
-	"crypto/sha256"
-	"encoding/hex"
 	"fmt"
 	"math"
 	"path"
@@ -53,17 +50,15 @@ func (st *renderState) funcs() template.FuncMap {
 		"jurisdiction": func() mdText {
 			return mdText(escapeMarkdown(st.cfg.Jurisdiction))
 		},
-		"contact":      func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
-		"caution":      st.fnCaution,
-		"caseid":       func(id string) mdText { return mdText(escapeMarkdown(st.pseudonym(id))) },
-		"model":        func(id string) mdText { return mdText(escapeMarkdown(modelName(id))) },
-		"problem":      func(c linelist.Code) mdText { return mdText(escapeMarkdown(c.Meaning())) },
-		"threshold":    func() int { return st.cfg.suppress() },
-		"value":        fnValue,
-		"windowsource": func() mdText { return mdText(escapeMarkdown(windowSource(st.s.Settings.CensorDaysSource))) },
-		// Identifiers are hidden when this render replaces them, or when the summary arrived
-		// already pseudonymised (analysis.Summary.Pseudonymised).
-		"pseudonymised": func() bool { return !st.showIDs || st.s.Settings.Pseudonymised },
+		"contact":       func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
+		"caution":       st.fnCaution,
+		"caseid":        func(id string) mdText { return mdText(escapeMarkdown(id)) },
+		"model":         func(id string) mdText { return mdText(escapeMarkdown(modelName(id))) },
+		"problem":       func(c linelist.Code) mdText { return mdText(escapeMarkdown(c.Meaning())) },
+		"threshold":     func() int { return st.threshold() },
+		"value":         fnValue,
+		"windowsource":  func() mdText { return mdText(escapeMarkdown(windowSource(st.s.Settings.CensorDaysSource))) },
+		"pseudonymised": func() bool { return st.s.Settings.Pseudonymised },
 		"ratio":         fnRatio,
 		"minus":         func(a, b int) int { return a - b },
 		"filename":      func(p string) mdText { return mdText(escapeMarkdown(path.Base(filepath.ToSlash(p)))) },
@@ -216,11 +211,16 @@ func (st *renderState) fnInterval(b [2]*float64, digits int) mdText {
 	return mdText(escapeMarkdown(intervalText(b, digits)))
 }
 
-// countText applies small-count suppression: 1 … threshold−1 and null print "<threshold".
-// Zero prints as 0: it discloses no individual.
+// withheldText stands for a count the release withheld. It does not say why (below the
+// threshold, or withheld so that such a count cannot be worked out): saying which would
+// tell the small counts apart.
+const withheldText = "withheld"
+
+// countText prints a count of a released view: null as withheldText, and, as a guard, a count
+// from 1 to threshold − 1 the same way. Zero prints as 0: it discloses no individual.
 func countText(v *int, threshold int) string {
 	if v == nil || (*v > 0 && *v < threshold) {
-		return "<" + strconv.Itoa(threshold)
+		return withheldText
 	}
 	return formatNumber(float64(*v), 0)
 }
@@ -235,7 +235,7 @@ func (st *renderState) fnCount(v any) (mdText, error) {
 		n := int(x)
 		p = &n
 	}
-	return mdText(escapeMarkdown(countText(p, st.cfg.suppress()))), nil
+	return mdText(escapeMarkdown(countText(p, st.threshold()))), nil
 }
 
 // dayText is the long form of a date, "4 March 2024", unambiguous in every locale.
@@ -330,27 +330,6 @@ func (st *renderState) fnPartial(name string, data ...any) (mdText, error) {
 	return mdText(buf.String()), nil
 }
 
-// pseudonym replaces a case identifier unless the run shows identifiers. With a key it is a
-// keyed hash (HMAC-SHA-256, first 10 hex digits), stable across runs with the same key; with
-// no key it is an ordinal in order of first appearance in this report, which cannot be
-// reversed at all.
-func (st *renderState) pseudonym(id string) string {
-	if st.showIDs {
-		return id
-	}
-	if st.cfg.PseudonymKey != "" {
-		m := hmac.New(sha256.New, []byte(st.cfg.PseudonymKey))
-		m.Write([]byte(id))
-		return "case-" + hex.EncodeToString(m.Sum(nil))[:10]
-	}
-	if p, ok := st.ordinals[id]; ok {
-		return p
-	}
-	p := "case-" + strconv.Itoa(len(st.ordinals)+1)
-	st.ordinals[id] = p
-	return p
-}
-
 // fnValue unwraps a nullable number for comparisons ({{ if lt (value .K.Estimate) 1.0 }});
 // guard it with {{ with }} or {{ if }}: a null is an error, not a silent zero.
 func fnValue(v any) (float64, error) {
@@ -388,4 +367,12 @@ func windowSource(src string) string {
 		return "caseweave's default"
 	}
 	return src
+}
+
+// threshold is the small-count threshold the release applied.
+func (st *renderState) threshold() int {
+	if t := st.s.Settings.SuppressBelow; t > 0 {
+		return t
+	}
+	return analysis.DefaultSuppressBelow
 }

@@ -115,7 +115,7 @@ func FuzzTemplateFunctions(f *testing.F) {
 		"config.yaml":    {Data: []byte("jurisdiction: Ostvale\ncontact: \"Outbreak desk\"\nsuppress_below: 5\n")},
 		"partials/x.txt": {Data: []byte("not a template")},
 	}
-	clean, err := Render(fuzzSummary("household", "school", "cases.csv", 0.8, 12, int32(day("2024-03-24"))), Options{Templates: fsys, ShowIDs: true})
+	clean, err := Render(released(fuzzSummary("household", "school", "cases.csv", 0.8, 12, int32(day("2024-03-24")))), Options{Templates: fsys})
 	if err != nil {
 		f.Fatalf("clean render: %v", err)
 	}
@@ -131,7 +131,14 @@ func FuzzTemplateFunctions(f *testing.F) {
 	f.Add("a | b\n# h\n\n```caseweave-block\n1\n```", "\x00\x01\x1b[31m", "\xff\xfe\xc3(", 123456789.123, 1<<40, int32(2932896))
 	f.Add("<!-- x --> &amp; &#60;", "*a* _b_ ~c~", "C:\\Users\\x\\linelist.csv", math.Inf(1), 4, int32(math.MaxInt32))
 	f.Fuzz(func(t *testing.T, a, b, c string, x float64, n int, d int32) {
-		out, err := Render(fuzzSummary(a, b, c, x, n, d), Options{Templates: fsys, ShowIDs: true})
+		rel, err := analysis.Release(fuzzSummary(a, b, c, x, n, d), analysis.Policy{})
+		if err != nil {
+			if !math.IsNaN(x) && !math.IsInf(x, 0) {
+				t.Fatalf("a summary of finite numbers was not released: %v", err)
+			}
+			return
+		}
+		out, err := Render(rel, Options{Templates: fsys})
 		if err != nil {
 			var te *TemplateError
 			if errors.As(err, &te) && te.File == "" {
@@ -241,7 +248,7 @@ func FuzzEscapeMarkdown(f *testing.F) {
 		}
 		want := plainText(s)
 		render := func(src string) string {
-			st := &renderState{s: minimalSummary(), ordinals: map[string]string{}}
+			st := &renderState{s: minimalSummary()}
 			out, err := st.markdownToHTML([]byte(src))
 			if err != nil {
 				t.Fatalf("markdownToHTML(%q): %v", src, err)

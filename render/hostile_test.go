@@ -202,7 +202,7 @@ func controlBytes(b []byte) int {
 
 func TestHostileTextInEveryField(t *testing.T) {
 	cleanSummary, _ := hostileFixture("")
-	cleanHTML := mustRender(t, cleanSummary, Options{ShowIDs: true})
+	cleanHTML := mustRender(t, cleanSummary, Options{})
 	clean := shapeOf(cleanHTML)
 	if controlBytes([]byte(cleanHTML)) != 0 || !utf8.ValidString(cleanHTML) {
 		t.Fatal("the clean render already holds control bytes or invalid UTF-8")
@@ -214,7 +214,7 @@ func TestHostileTextInEveryField(t *testing.T) {
 			if fields < 60 {
 				t.Fatalf("only %d string fields set; the walk missed part of the Summary", fields)
 			}
-			page := mustRender(t, s, Options{ShowIDs: true})
+			page := mustRender(t, s, Options{})
 			sizes[tc.name] = len(page)
 			checkShape(t, page, clean)
 			if strings.ContainsAny(tc.p, "<>\"") && strings.Contains(page, tc.p) {
@@ -241,7 +241,7 @@ func TestHostileTextInEveryField(t *testing.T) {
 	// so nothing repeats data without bound.
 	big := hostilePayloads[5].p
 	small, fields := hostileFixture(big[:1<<10])
-	smallSize := len(mustRender(t, small, Options{ShowIDs: true}))
+	smallSize := len(mustRender(t, small, Options{}))
 	grow, growSmall := sizes["100 KB"]-len(cleanHTML), smallSize-len(cleanHTML)
 	if growSmall <= 0 || grow > 110*growSmall || sizes["100 KB"] > 64<<20 {
 		t.Errorf("a 100 KB value grows the page by %d bytes, a 1 KB value by %d (page %d bytes)", grow, growSmall, sizes["100 KB"])
@@ -256,14 +256,14 @@ func TestTemplateActionInDataIsNotExecuted(t *testing.T) {
 	count := func(p string) int {
 		s, _ := hostileFixture(p)
 		s.Input.Path = "/srv/exports/" + sentinel + ".csv"
-		return strings.Count(mustRender(t, s, Options{ShowIDs: true}), sentinel)
+		return strings.Count(mustRender(t, s, Options{}), sentinel)
 	}
 	plain, action := count("plain"), count("{{.Input.Path}}")
 	if plain == 0 || action != plain {
 		t.Fatalf("the path is printed %d times with plain text in the fields and %d times with a template action", plain, action)
 	}
 	s, _ := hostileFixture("{{.Input.Path}}")
-	page := html.UnescapeString(mustRender(t, s, Options{ShowIDs: true}))
+	page := html.UnescapeString(mustRender(t, s, Options{}))
 	if !strings.Contains(page, "{{.Input.Path}}") {
 		t.Error("the action is not shown as typed")
 	}
@@ -304,7 +304,7 @@ func TestMissingFieldInFolderNamesFileLineField(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			dir := t.TempDir()
 			writeFolder(t, dir, tc.files)
-			_, err := Render(fixtureSummary(), Options{Templates: os.DirFS(dir)})
+			_, err := Render(released(fixtureSummary()), Options{Templates: os.DirFS(dir)})
 			var te *TemplateError
 			if !errors.As(err, &te) {
 				t.Fatalf("error %v (%T) is not a *TemplateError", err, err)
@@ -338,7 +338,7 @@ func TestPartialOutsideTheFolderIsRefused(t *testing.T) {
 		t.Run(name, func(t *testing.T) {
 			dir := filepath.Join(root, "tmpl")
 			writeFolder(t, dir, map[string]string{"report.md": "# R\n\n{{ partial \"partials/ok.md\" . }}\n{{ partial " + jsonQuote(name) + " . }}\n"})
-			out, err := Render(fixtureSummary(), Options{Templates: os.DirFS(dir)})
+			out, err := Render(released(fixtureSummary()), Options{Templates: os.DirFS(dir)})
 			if bytes.Contains(out, []byte(secret)) {
 				t.Fatal("a file outside the template folder reached the report")
 			}

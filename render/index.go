@@ -11,11 +11,11 @@ import (
 )
 
 // IndexEntry is one report of a --by run: the column's value, the report's file name and
-// the (already pseudonymised) summary it was built from.
+// the released view it was built from.
 type IndexEntry struct {
-	Value   string
-	File    string
-	Summary *analysis.Summary
+	Value  string
+	File   string
+	Report *analysis.Released
 }
 
 // indexRow is what the index page shows of one report.
@@ -51,15 +51,17 @@ func Index(column string, entries []IndexEntry) ([]byte, error) {
 		Rows               []indexRow
 	}{Column: column, CSS: template.CSS(css)}
 	for _, e := range entries {
-		if e.Summary != nil {
-			data.AsOf = e.Summary.AsOf.String()
-			data.Tool = e.Summary.Tool.Name + " " + e.Summary.Tool.Version
+		var s *analysis.Summary
+		if e.Report != nil {
+			s = e.Report.Summary()
+			data.AsOf = s.AsOf.String()
+			data.Tool = s.Tool.Name + " " + s.Tool.Version
 		}
 		value := e.Value
 		if value == "" {
 			value = "(not recorded)"
 		}
-		data.Rows = append(data.Rows, indexRow{Value: value, File: e.File, Status: status(e.Summary)})
+		data.Rows = append(data.Rows, indexRow{Value: value, File: e.File, Status: status(s)})
 	}
 	var buf bytes.Buffer
 	if err := indexPage.Execute(&buf, data); err != nil {

@@ -32,10 +32,6 @@ type Options struct {
 	// Charts names the charts to draw (see ChartNames); nil draws all. A chart left out is
 	// replaced by a one-line note.
 	Charts []string
-	// TablesDir, when set, also receives every table of the report as CSV (see WriteTables).
-	TablesDir string
-	// ShowIDs prints case identifiers as they are; otherwise they are pseudonymised.
-	ShowIDs bool
 }
 
 // renderState is everything one render needs; nothing outlives the call.
@@ -43,22 +39,22 @@ type renderState struct {
 	s        *analysis.Summary
 	cfg      Config
 	charts   []string
-	showIDs  bool
 	set      *texttemplate.Template
 	depth    int
 	blocks   []*block
 	chartSeq int
-	ordinals map[string]string
 	errs     []error
 }
 
-// Render executes the report template over s and returns one self-contained HTML file: the
-// style sheet and the chart library are inline, and the page makes no request of any kind.
-// The same Summary and options give byte-identical output.
-func Render(s *analysis.Summary, opts Options) ([]byte, error) {
-	if s == nil {
-		return nil, errors.New("render: no summary")
+// Render executes the report template over the released view r (analysis.Release: the
+// only form in which a Summary reaches a stakeholder) and returns one self-contained HTML
+// file: the style sheet and the chart library are inline, and the page makes no request of
+// any kind. The same view and options give byte-identical output.
+func Render(r *analysis.Released, opts Options) ([]byte, error) {
+	if r == nil {
+		return nil, errors.New("render: no released summary")
 	}
+	s := r.Summary()
 	fsys := opts.Templates
 	if fsys == nil {
 		fsys = templates.Default()
@@ -78,7 +74,7 @@ func Render(s *analysis.Summary, opts Options) ([]byte, error) {
 			return nil, fmt.Errorf("render: unknown chart %q (known: %s)", c, strings.Join(ChartNames(), ", "))
 		}
 	}
-	st := &renderState{s: s, cfg: cfg, charts: opts.Charts, showIDs: opts.ShowIDs, ordinals: map[string]string{}}
+	st := &renderState{s: s, cfg: cfg, charts: opts.Charts}
 	set, err := parseFolder(fsys, st.funcs())
 	if err != nil {
 		return nil, err
@@ -99,11 +95,6 @@ func Render(s *analysis.Summary, opts Options) ([]byte, error) {
 	page, err := pageHTML(st, body, css)
 	if err != nil {
 		return nil, err
-	}
-	if opts.TablesDir != "" {
-		if err := writeTables(st, opts.TablesDir); err != nil {
-			return nil, err
-		}
 	}
 	return page, nil
 }

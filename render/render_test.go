@@ -5,7 +5,6 @@ import (
 	"errors"
 	"math"
 	"os"
-	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
@@ -16,9 +15,19 @@ import (
 	"github.com/caseweave/caseweave/templates"
 )
 
+// released releases a test summary as the report command does, with the threshold of its
+// settings (the default when unset) and its identifiers as recorded.
+func released(s *analysis.Summary) *analysis.Released {
+	r, err := analysis.Release(s, analysis.Policy{SuppressBelow: s.Settings.SuppressBelow})
+	if err != nil {
+		panic(err)
+	}
+	return r
+}
+
 func mustRender(t testing.TB, s *analysis.Summary, o Options) string {
 	t.Helper()
-	out, err := Render(s, o)
+	out, err := Render(released(s), o)
 	if err != nil {
 		t.Fatalf("Render: %v", err)
 	}
@@ -123,12 +132,14 @@ func TestChartSubset(t *testing.T) {
 	if !strings.Contains(html, "This chart was left out of this report.") {
 		t.Error("left-out charts have no note")
 	}
-	if _, err := Render(fixtureSummary(), Options{Charts: []string{"pie"}}); err == nil {
+	if _, err := Render(released(fixtureSummary()), Options{Charts: []string{"pie"}}); err == nil {
 		t.Error("an unknown chart name was accepted")
 	}
 }
 
-func TestNonFiniteValueNamesTheChart(t *testing.T) {
+// A Summary holds finite numbers only; a non-finite one is refused at the release, the gate
+// every report passes, before any chart is drawn from it.
+func TestNonFiniteValueIsRefused(t *testing.T) {
 	for _, tc := range []struct {
 		name  string
 		spoil func(*analysis.Summary)
@@ -141,9 +152,9 @@ func TestNonFiniteValueNamesTheChart(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			s := fixtureSummary()
 			tc.spoil(s)
-			_, err := Render(s, Options{})
-			if err == nil || !strings.Contains(err.Error(), `chart "`+tc.name+`"`) || !strings.Contains(err.Error(), "finite") {
-				t.Fatalf("error = %v, want one naming chart %q and a non-finite value", err, tc.name)
+			_, err := analysis.Release(s, analysis.Policy{})
+			if err == nil || !strings.Contains(err.Error(), "not finite") {
+				t.Fatalf("error = %v, want one saying a number is not finite", err)
 			}
 		})
 	}
@@ -178,7 +189,7 @@ func TestTemplateErrorsNameFileLineAndField(t *testing.T) {
 		{"style sheet fetching a URL", folder("x", map[string]string{"style.css": "body{}\nh1{background:url(http://x/y.png)}"}), "style.css", 2, "", "not allowed"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := Render(fixtureSummary(), Options{Templates: tc.fs})
+			_, err := Render(released(fixtureSummary()), Options{Templates: tc.fs})
 			var te *TemplateError
 			if !errors.As(err, &te) {
 				t.Fatalf("error %v (%T) is not a *TemplateError", err, err)
@@ -192,7 +203,7 @@ func TestTemplateErrorsNameFileLineAndField(t *testing.T) {
 
 func TestForgedBlockMarkerIsRejected(t *testing.T) {
 	fs := folder("{{ chart \"epicurve\" }}\n\n```caseweave-block\n1\n```\n", nil)
-	_, err := Render(fixtureSummary(), Options{Templates: fs})
+	_, err := Render(released(fixtureSummary()), Options{Templates: fs})
 	var te *TemplateError
 	if !errors.As(err, &te) || !strings.Contains(err.Error(), "not made by the function library") {
 		t.Fatalf("a reused block marker gave %v", err)
@@ -211,43 +222,61 @@ func TestRawHTMLInTemplateIsDropped(t *testing.T) {
 	}
 }
 
+// Released with a pseudonym key, neither the key nor a raw identifier reaches the report or
+// its tables; released without pseudonyms (--show-ids) the identifiers are shown.
 func TestPseudonymKeyNeverInOutput(t *testing.T) {
 	const key = "sekrit-KEY-do-not-print-42"
 	cfg, err := ParseConfig("config.yaml", []byte("jurisdiction: Test\npseudonym_key: "+key+"\n"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	dir := t.TempDir()
-	html := mustRender(t, fixtureSummary(), Options{Config: &cfg, TablesDir: dir})
+	rel, err := analysis.Release(fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(cfg.PseudonymKey)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := Render(rel, Options{Config: &cfg})
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := string(out)
 	if strings.Contains(html, key) {
 		t.Fatal("the pseudonym key appears in the report")
 	}
 	if strings.Contains(html, "PX-0041") {
-		t.Error("a raw case identifier appears in the report without ShowIDs")
+		t.Error("a raw case identifier appears in the report")
 	}
 	if !regexp.MustCompile(`case-[0-9a-f]{10}`).MatchString(html) {
 		t.Error("no keyed pseudonym in the report")
 	}
-	files, _ := filepath.Glob(filepath.Join(dir, "*.csv"))
+	files, err := Tables(rel)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for _, f := range files {
-		b, _ := os.ReadFile(f)
-		if bytes.Contains(b, []byte(key)) || bytes.Contains(b, []byte("PX-0041")) {
-			t.Errorf("%s contains the key or a raw identifier", f)
+		if bytes.Contains(f.Data, []byte(key)) || bytes.Contains(f.Data, []byte("PX-0041")) {
+			t.Errorf("%s contains the key or a raw identifier", f.Name)
 		}
 	}
-	shown := mustRender(t, fixtureSummary(), Options{Config: &cfg, ShowIDs: true})
+	shown := mustRender(t, fixtureSummary(), Options{Config: &cfg})
 	if !strings.Contains(shown, "PX-0041") || strings.Contains(shown, key) {
-		t.Error("ShowIDs did not show identifiers, or leaked the key")
+		t.Error("without pseudonyms the identifiers should show, and never the key")
 	}
 }
 
 func TestSuppressionThresholdFromConfig(t *testing.T) {
 	cfg := Config{SuppressBelow: 40}
-	html := mustRender(t, fixtureSummary(), Options{Config: &cfg})
-	// The care-home stratum has 32 cases: below 40 it must print as <40 with its mean withheld.
-	if !strings.Contains(html, "<td>care home</td>\n<td style=\"text-align:right\">&lt;40</td>\n<td style=\"text-align:right\">withheld</td>") &&
-		!strings.Contains(html, "&lt;40") {
-		t.Error("counts below the configured threshold are not suppressed")
+	rel, err := analysis.Release(fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := Render(rel, Options{Config: &cfg})
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := string(out)
+	// The care-home stratum has 32 cases: below 40 it is withheld with its mean.
+	if !strings.Contains(html, "<td>care home</td>\n<td style=\"text-align:right\">withheld</td>\n<td style=\"text-align:right\">withheld</td>") {
+		t.Error("counts below the configured threshold are not withheld")
 	}
 	if strings.Contains(outsideScripts(html), ">32<") {
 		t.Error("a count of 32 is printed although the threshold is 40")
@@ -277,7 +306,7 @@ func TestReportSizeForAMillionCases(t *testing.T) {
 	s.EpiCurve.Weeks, s.EpiCurve.Total, s.EpiCurve.Series = nil, nil, nil
 	for i := 0; i < weeks; i++ {
 		s.EpiCurve.Weeks = append(s.EpiCurve.Weeks, day("2023-01-02")+linelist.Day(7*i))
-		s.EpiCurve.Total = append(s.EpiCurve.Total, 9615)
+		s.EpiCurve.Total = append(s.EpiCurve.Total, ip(9615))
 	}
 	for j := 0; j < 12; j++ {
 		sr := analysis.Series{Name: "setting " + string(rune('a'+j))}

@@ -4,7 +4,7 @@ func init() { registerTable("age_mixing", 90, tableAgeMixing) }
 
 func tableAgeMixing(st *renderState, f cellFmt) (t table, ok bool, err error) {
 	s := st.s
-	thr := st.cfg.suppress()
+	thr := st.threshold()
 	a := s.AgeMixing
 	if a == nil || len(a.Groups) == 0 {
 		return t, false, nil

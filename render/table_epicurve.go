@@ -4,7 +4,7 @@ func init() { registerTable("epicurve", 100, tableEpicurve) }
 
 func tableEpicurve(st *renderState, f cellFmt) (t table, ok bool, err error) {
 	s := st.s
-	thr := st.cfg.suppress()
+	thr := st.threshold()
 	e := s.EpiCurve
 	if e == nil || len(e.Weeks) == 0 {
 		return t, false, nil
@@ -18,7 +18,7 @@ func tableEpicurve(st *renderState, f cellFmt) (t table, ok bool, err error) {
 	for i, w := range e.Weeks {
 		row := []string{weekText(w), w.String(), ""}
 		if i < len(e.Total) {
-			row[2] = countText(&e.Total[i], thr)
+			row[2] = countText(e.Total[i], thr)
 		}
 		for _, sr := range e.Series {
 			var c *int

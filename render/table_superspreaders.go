@@ -25,7 +25,7 @@ func tableSuperspreaders(st *renderState, f cellFmt) (t table, ok bool, err erro
 		if k < len(o.SuperspreaderOffspring) {
 			n = f.int(o.SuperspreaderOffspring[k])
 		}
-		t.Rows = append(t.Rows, []string{st.pseudonym(id), n})
+		t.Rows = append(t.Rows, []string{id, n})
 	}
 	return t, true, nil
 }

@@ -4,7 +4,6 @@ func init() { registerTable("weekly_r", 120, tableWeeklyR) }
 
 func tableWeeklyR(st *renderState, f cellFmt) (t table, ok bool, err error) {
 	s := st.s
-	thr := st.cfg.suppress()
 	if len(s.TimeVarying) == 0 {
 		return t, false, nil
 	}
@@ -16,11 +15,11 @@ func tableWeeklyR(st *renderState, f cellFmt) (t table, ok bool, err error) {
 		if w.Censored {
 			done = "no: recent, still counting"
 		}
-		r, lo, hi := f.num(w.R, 2), f.numPtr(w.Lower, 2), f.numPtr(w.Upper, 2)
-		if c > 0 && c < thr {
-			r, lo, hi = "withheld", "", ""
+		r := f.numPtr(w.R, 2)
+		if c == nil {
+			r = "withheld"
 		}
-		t.Rows = append(t.Rows, []string{weekText(w.WeekStart), w.WeekStart.String(), countText(&c, thr), r, lo, hi, done})
+		t.Rows = append(t.Rows, []string{weekText(w.WeekStart), w.WeekStart.String(), countText(c, st.threshold()), r, f.numPtr(w.Lower, 2), f.numPtr(w.Upper, 2), done})
 	}
 	return t, true, nil
 }

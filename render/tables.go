@@ -4,8 +4,6 @@ import (
 	"bytes"
 	"encoding/csv"
 	"fmt"
-	"os"
-	"path/filepath"
 	"regexp"
 	"slices"
 	"strconv"
@@ -189,33 +187,31 @@ func tableCSV(t table) ([]byte, error) {
 	return buf.Bytes(), w.Error()
 }
 
-// WriteTables writes each table of the report that has data as dir/NAME.csv (see TableNames),
-// each file atomically. Small counts are suppressed at the run's threshold and case
-// identifiers pseudonymised, as in the report.
-func WriteTables(s *analysis.Summary, dir string) error {
-	cfg := Config{SuppressBelow: s.Settings.SuppressBelow}
-	return writeTables(&renderState{s: s, cfg: cfg, ordinals: map[string]string{}}, dir)
+// TableFile is one table of a report as CSV.
+type TableFile struct {
+	Name string // the table's name (TableNames) with ".csv"
+	Data []byte
 }
 
-func writeTables(st *renderState, dir string) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("tables: %w", err)
-	}
+// Tables returns every table of the report that has data as CSV, in report order, built from
+// the released view as the report's own tables are (small counts withheld, identifiers as
+// released).
+func Tables(r *analysis.Released) ([]TableFile, error) {
+	st := &renderState{s: r.Summary()}
+	var out []TableFile
 	for _, name := range TableNames() {
 		t, ok, err := st.buildTable(name, cellFmt{csv: true})
 		if err != nil {
-			return err
+			return nil, err
 		}
 		if !ok {
 			continue
 		}
 		data, err := tableCSV(t)
 		if err != nil {
-			return fmt.Errorf("tables: %s: %w", name, err)
+			return nil, fmt.Errorf("tables: %s: %w", name, err)
 		}
-		if err := WriteFileAtomic(filepath.Join(dir, name+".csv"), data); err != nil {
-			return err
-		}
+		out = append(out, TableFile{Name: name + ".csv", Data: data})
 	}
-	return nil
+	return out, nil
 }

@@ -3,8 +3,6 @@ package render
 import (
 	"errors"
 	"github.com/caseweave/caseweave/pipeline/linelist"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
@@ -68,8 +66,8 @@ func TestNumberFormats(t *testing.T) {
 		{"open upper bound", st.estimateText(analysis.Estimate{Estimate: fp(3), BCa: [2]*float64{fp(1), nil}}, 1, false), "3.0 (95% CI 1.0 to no upper bound)"},
 		{"no estimate", st.estimateText(analysis.Estimate{}, 2, false), "not estimable"},
 		{"interval", intervalText([2]*float64{fp(6.6), nil}, 1), "6.6–…"},
-		{"count suppressed", countText(ip(3), 5), "<5"},
-		{"count null", countText(nil, 10), "<10"},
+		{"count suppressed", countText(ip(3), 5), "withheld"},
+		{"count null", countText(nil, 10), "withheld"},
 		{"count zero shown", countText(ip(0), 5), "0"},
 		{"count shown", countText(ip(5), 5), "5"},
 		{"day", dayText(day("2024-03-04")), "4 March 2024"},
@@ -143,59 +141,32 @@ func TestCSVCell(t *testing.T) {
 	}
 }
 
-func TestWriteTables(t *testing.T) {
-	dir := t.TempDir()
-	s := hostileSummary()
-	if err := WriteTables(s, dir); err != nil {
+func TestTables(t *testing.T) {
+	files, err := Tables(released(hostileSummary()))
+	if err != nil {
 		t.Fatal(err)
 	}
+	byName := map[string][]byte{}
+	for _, f := range files {
+		byName[f.Name] = f.Data
+	}
 	for _, name := range TableNames() {
-		if _, err := os.Stat(filepath.Join(dir, name+".csv")); err != nil {
-			t.Errorf("table %s not written: %v", name, err)
+		if byName[name+".csv"] == nil {
+			t.Errorf("table %s missing", name)
 		}
 	}
-	strata, _ := os.ReadFile(filepath.Join(dir, "strata.csv"))
+	strata := byName["strata.csv"]
 	if !strings.Contains(string(strata), `'=HYPERLINK(""http://x"")`) {
 		t.Errorf("formula not neutralised in strata.csv:\n%s", strata)
 	}
-	if !strings.Contains(string(strata), "prison,<5,withheld") {
+	if !strings.Contains(string(strata), "prison,withheld,withheld") {
 		t.Errorf("small count not suppressed in strata.csv:\n%s", strata)
 	}
-	models, _ := os.ReadFile(filepath.Join(dir, "models.csv"))
+	models := byName["models.csv"]
 	if !strings.Contains(string(models), ",-341.2000,") {
 		t.Errorf("negative number altered in models.csv:\n%s", models)
 	}
-	if err := WriteTables(minimalSummary(), t.TempDir()); err != nil {
+	if _, err := Tables(released(minimalSummary())); err != nil {
 		t.Errorf("minimal summary: %v", err)
-	}
-}
-
-func TestWriteFileAtomic(t *testing.T) {
-	dir := t.TempDir()
-	p := filepath.Join(dir, "report.html")
-	if err := WriteFileAtomic(p, []byte("one")); err != nil {
-		t.Fatal(err)
-	}
-	if err := WriteFileAtomic(p, []byte("two")); err != nil {
-		t.Fatal(err)
-	}
-	if b, _ := os.ReadFile(p); string(b) != "two" {
-		t.Errorf("content %q, want two", b)
-	}
-	// A failed rename (the target is a non-empty directory) leaves the target and no temp file.
-	target := filepath.Join(dir, "occupied")
-	os.MkdirAll(filepath.Join(target, "inner"), 0o755)
-	if err := WriteFileAtomic(target, []byte("x")); err == nil {
-		t.Error("writing over a directory succeeded")
-	}
-	if fi, err := os.Stat(target); err != nil || !fi.IsDir() {
-		t.Error("the previous directory was disturbed")
-	}
-	left, _ := filepath.Glob(filepath.Join(dir, ".*tmp-*"))
-	if len(left) != 0 {
-		t.Errorf("temporary files left behind: %v", left)
-	}
-	if err := WriteFileAtomic(filepath.Join(dir, "missing", "x"), []byte("x")); err == nil {
-		t.Error("writing into a missing directory succeeded")
 	}
 }

@@ -13,7 +13,6 @@ import (
 func newCheckCmd(e env) *cobra.Command {
 	var in inputFlags
 	var strict bool
-	var jsonOut string
 	c := &cobra.Command{
 		Use:   "check [flags] LINELIST.csv",
 		Short: "Read and validate a line list; report its problems and its transmission trees",
@@ -29,10 +28,8 @@ when it cannot; with --strict any error-severity problem also exits 1.`,
 			}
 			s := analysis.CheckSummary(ld.path, ld.list, ld.forest, ld.asOf)
 			printCheck(e.stdout, s)
-			if jsonOut != "" {
-				if err := writeJSON(e, jsonOut, checkJSON(s)); err != nil {
-					return err
-				}
+			if err := in.writeJSONs(e, s, func(r *analysis.Released) any { return checkJSON(r.Summary()) }, checkJSON); err != nil {
+				return err
 			}
 			if strict && s.HasErrors() {
 				return withCode(exitInput, fmt.Errorf("--strict: the file has error-severity problems (listed above)"))
@@ -42,7 +39,6 @@ when it cannot; with --strict any error-severity problem also exits 1.`,
 	}
 	in.register(c)
 	c.Flags().BoolVar(&strict, "strict", false, "exit 1 when any row has an error-severity problem")
-	c.Flags().StringVar(&jsonOut, "json", "", "also write the machine-readable summary to FILE (- for stdout)")
 	return c
 }
 

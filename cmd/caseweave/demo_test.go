@@ -10,7 +10,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/caseweave/caseweave/render"
+	"github.com/caseweave/caseweave/render/browser"
 )
 
 // needBrowser fails when chromium is missing (the test command installs it), unless
@@ -20,7 +20,7 @@ func needBrowser(t *testing.T) {
 	if os.Getenv("CASEWEAVE_SKIP_BROWSER") == "1" {
 		t.Skip("CASEWEAVE_SKIP_BROWSER=1")
 	}
-	if err := render.BrowserAvailable(); err != nil {
+	if err := browser.BrowserAvailable(); err != nil {
 		t.Fatalf("browser tests: %v (`bash .ci/test` installs it)", err)
 	}
 }
@@ -48,7 +48,7 @@ func TestDemoReportsInBrowser(t *testing.T) {
 			t.Errorf("%s is %d bytes, over 3 MB", name, len(html))
 		}
 		ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
-		pc, err := render.InspectInBrowser(ctx, html)
+		pc, err := browser.InspectInBrowser(ctx, html)
 		cancel()
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)

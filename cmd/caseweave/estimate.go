@@ -121,7 +121,6 @@ func progressAfter(e env, delay time.Duration) func(done, total int) {
 
 func newEstimateCmd(e env) *cobra.Command {
 	var f estimateFlags
-	var jsonOut string
 	c := &cobra.Command{
 		Use:   "estimate [flags] LINELIST.csv",
 		Short: "Estimate the offspring distribution (R, k) with bootstrap intervals, and the outlook",
@@ -145,14 +144,10 @@ from cluster sizes alone; and projects the next generations.`,
 				return err
 			}
 			printEstimate(e.stdout, s)
-			if jsonOut != "" {
-				return writeJSON(e, jsonOut, s)
-			}
-			return nil
+			return f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s })
 		},
 	}
 	f.register(c)
-	c.Flags().StringVar(&jsonOut, "json", "", "write the summary as JSON to FILE (- for stdout)")
 	return c
 }
 

@@ -5,6 +5,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/render"
@@ -12,13 +13,17 @@ import (
 
 // inputFlags are the flags every command that reads a line list shares.
 type inputFlags struct {
-	config  string
-	asOf    string
-	maxRows int
+	config       string
+	asOf         string
+	maxRows      int
+	jsonOut      string
+	internalJSON string
 }
 
 func (f *inputFlags) register(c *cobra.Command) {
 	c.Flags().StringVar(&f.config, "config", "", "jurisdiction config (YAML) mapping the export's headers and date format")
+	c.Flags().StringVar(&f.jsonOut, "json", "", "write the summary as JSON to FILE (- for stdout): the released view, small counts withheld and identifiers replaced as in a report")
+	c.Flags().StringVar(&f.internalJSON, "internal-json", "", "write the full, unsuppressed summary to FILE (- for stdout; with report --by, a folder of <slug>.json): it holds case-level data — identifiers, exact dates, small counts, problem messages quoting the rows — and must stay with the analyst")
 	c.Flags().StringVar(&f.asOf, "as-of", "", "analysis date YYYY-MM-DD (default today); onsets after it are flagged, recent cases censored")
 	c.Flags().IntVar(&f.maxRows, "max-rows", 0, "refuse files with more data rows than this (0: no limit)")
 }
@@ -67,4 +72,29 @@ func (f *inputFlags) load(path string) (*loaded, error) {
 		return nil, withCode(exitInput, err) // a *linelist.FileError names the file itself
 	}
 	return &loaded{path: path, asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
+}
+
+// writeJSONs writes the --json (released) and --internal-json (full) documents of a command
+// that read with these flags; view and full choose what of each summary is written. The
+// release follows the --config file's threshold and pseudonym key.
+func (f *inputFlags) writeJSONs(e env, s *analysis.Summary, view func(*analysis.Released) any, full func(*analysis.Summary) any) error {
+	if f.jsonOut != "" {
+		p := analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")}
+		if f.config != "" {
+			if c, err := render.LoadConfigFile(f.config); err == nil {
+				p = analysis.Policy{SuppressBelow: c.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(c.PseudonymKey)}
+			}
+		}
+		rel, err := analysis.Release(s, p)
+		if err != nil {
+			return withCode(exitInput, err)
+		}
+		if err := writeJSON(e, f.jsonOut, view(rel)); err != nil {
+			return err
+		}
+	}
+	if f.internalJSON != "" {
+		return writeJSON(e, f.internalJSON, full(s))
+	}
+	return nil
 }

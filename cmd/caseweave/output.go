@@ -4,7 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 
-	"github.com/caseweave/caseweave/render"
+	"github.com/caseweave/caseweave/cmd/internal/output"
 )
 
 // writeJSON writes v as indented JSON to path ("-" is stdout), atomically for a file.
@@ -13,18 +13,25 @@ func writeJSON(e env, path string, v any) error {
 	if err != nil {
 		return withCode(exitOutput, fmt.Errorf("encoding the JSON summary: %w", err))
 	}
-	b = append(b, '\n')
-	if path == "-" {
-		_, err := e.stdout.Write(b)
-		return withCode(exitOutput, err)
-	}
-	return writeFileAtomic(path, b)
+	return writeOut(e, path, append(b, '\n'))
 }
 
-// writeFileAtomic writes through render.WriteFileAtomic (temporary file, sync, rename), so
+// writeOut writes data to path ("-" is stdout, "" nothing), atomically for a file.
+func writeOut(e env, path string, data []byte) error {
+	switch path {
+	case "":
+		return nil
+	case "-":
+		_, err := e.stdout.Write(data)
+		return withCode(exitOutput, err)
+	}
+	return writeFileAtomic(path, data)
+}
+
+// writeFileAtomic writes through output.WriteFile (temporary file, sync, rename), so
 // a failed run never leaves a half-written file and an earlier file survives.
 func writeFileAtomic(path string, data []byte) error {
-	return withCode(exitOutput, render.WriteFileAtomic(path, data))
+	return withCode(exitOutput, output.WriteFile(path, data))
 }
 
 func jsonIndent(v any) ([]byte, error) { return json.MarshalIndent(v, "", "  ") }

@@ -4,7 +4,7 @@ import (
 	"context"
 	"time"
 
-	"github.com/caseweave/caseweave/render"
+	"github.com/caseweave/caseweave/render/browser"
 )
 
 // pdfTimeout bounds one PDF print; a report prints in a few seconds.
@@ -14,5 +14,5 @@ const pdfTimeout = 2 * time.Minute
 func printPDF(html []byte) ([]byte, error) {
 	ctx, cancel := context.WithTimeout(context.Background(), pdfTimeout)
 	defer cancel()
-	return render.PrintPDF(ctx, html)
+	return browser.PrintPDF(ctx, html)
 }

@@ -22,7 +22,6 @@ type reportFlags struct {
 	estimateFlags
 	template  string
 	out       string
-	jsonOut   string
 	tablesDir string
 	by        string
 	pdf       bool
@@ -30,6 +29,8 @@ type reportFlags struct {
 	incub     int
 	// templateConfig is set when the config was taken from the --template folder.
 	templateConfig bool
+	// pseudonyms are the batch's, one per pseudonym key.
+	pseudonyms map[string]*analysis.Pseudonyms
 }
 
 func newReportCmd(e env) *cobra.Command {
@@ -52,7 +53,6 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 	fl := c.Flags()
 	fl.StringVar(&f.template, "template", "", "template folder (report.md, partials, style.css, config.yaml); with --by, a folder of per-value folders")
 	fl.StringVarP(&f.out, "output", "o", "", "report file to write (default report.html; with --by, a directory, default reports)")
-	fl.StringVar(&f.jsonOut, "json", "", "also write the summary JSON to FILE")
 	fl.StringVar(&f.tablesDir, "tables", "", "also write each table of the report as CSV into DIR")
 	fl.StringVar(&f.by, "by", "", "one report per value of this column: "+strings.Join(linelist.StratumColumns(), ", "))
 	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
@@ -63,10 +63,13 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 
 // page is one rendered report, kept in memory until every report of the run has succeeded.
 type page struct {
-	slug, value string
-	html, json  []byte
-	pdf         []byte
-	tables      *analysis.Summary
+	slug, value  string
+	html, json   []byte
+	pdf          []byte
+	internalJSON []byte
+	tables       []render.TableFile
+	released     *analysis.Released
+	internal     *analysis.Summary
 }
 
 func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
@@ -144,7 +147,6 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	if err != nil {
 		return page{}, err
 	}
-	o.SuppressBelow = rc.SuppressBelow
 	if f.incub < 0 {
 		return page{}, usageErrorf("--incubation-days must be positive, got %d", f.incub)
 	}
@@ -167,11 +169,11 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	if err != nil {
 		return page{}, err
 	}
-	shown := s
-	if !f.showIDs {
-		shown = s.Pseudonymised(rc.PseudonymKey)
+	rel, err := analysis.Release(s, f.policy(rc))
+	if err != nil {
+		return page{}, withCode(exitInput, err)
 	}
-	html, err := render.Render(shown, render.Options{Templates: fsys, Config: &rc, ShowIDs: true})
+	html, err := render.Render(rel, render.Options{Templates: fsys, Config: &rc})
 	if err != nil {
 		var te *render.TemplateError
 		var fe *linelist.FileError
@@ -183,9 +185,19 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 		}
 		return page{}, withCode(exitOutput, err)
 	}
-	p.html, p.tables = html, shown
-	if p.json, err = marshalJSON(shown); err != nil {
+	p.html, p.released, p.internal = html, rel, s
+	if p.json, err = marshalJSON(rel.Summary()); err != nil {
 		return page{}, withCode(exitOutput, err)
+	}
+	if f.internalJSON != "" {
+		if p.internalJSON, err = marshalJSON(s); err != nil {
+			return page{}, withCode(exitOutput, err)
+		}
+	}
+	if f.tablesDir != "" {
+		if p.tables, err = render.Tables(rel); err != nil {
+			return page{}, withCode(exitOutput, err)
+		}
 	}
 	if f.pdf {
 		if p.pdf, err = printPDF(html); err != nil {
@@ -212,10 +224,11 @@ func (f *reportFlags) write(e env, pages []page) error {
 				return err
 			}
 		}
-		if f.jsonOut != "" {
-			if err := writeFileAtomic(f.jsonOut, p.json); err != nil {
-				return err
-			}
+		if err := writeOut(e, f.jsonOut, p.json); err != nil {
+			return err
+		}
+		if err := writeOut(e, f.internalJSON, p.internalJSON); err != nil {
+			return err
 		}
 		if f.tablesDir != "" {
 			if err := writeTables(p.tables, f.tablesDir); err != nil {
@@ -251,7 +264,15 @@ func (f *reportFlags) write(e env, pages []page) error {
 				return err
 			}
 		}
-		entries = append(entries, render.IndexEntry{Value: p.value, File: p.slug + ".html", Summary: p.tables})
+		if f.internalJSON != "" {
+			if err := os.MkdirAll(f.internalJSON, 0o700); err != nil {
+				return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", f.internalJSON, err))
+			}
+			if err := writeFileAtomic(filepath.Join(f.internalJSON, p.slug+".json"), p.internalJSON); err != nil {
+				return err
+			}
+		}
+		entries = append(entries, render.IndexEntry{Value: p.value, File: p.slug + ".html", Report: p.released})
 	}
 	idx, err := render.Index(f.by, entries)
 	if err != nil {
@@ -267,11 +288,34 @@ func (f *reportFlags) write(e env, pages []page) error {
 	return nil
 }
 
-func writeTables(s *analysis.Summary, dir string) error {
+func writeTables(tables []render.TableFile, dir string) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", dir, err))
 	}
-	return withCode(exitOutput, render.WriteTables(s, dir))
+	for _, t := range tables {
+		if err := writeFileAtomic(filepath.Join(dir, t.Name), t.Data); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// policy is the disclosure policy of a report under config rc: its threshold, and the
+// batch's pseudonyms for its key (one label per person in every report that shares the key),
+// or none with --show-ids.
+func (f *reportFlags) policy(rc render.Config) analysis.Policy {
+	p := analysis.Policy{SuppressBelow: rc.SuppressBelow}
+	if f.showIDs {
+		return p
+	}
+	if f.pseudonyms == nil {
+		f.pseudonyms = map[string]*analysis.Pseudonyms{}
+	}
+	if f.pseudonyms[rc.PseudonymKey] == nil {
+		f.pseudonyms[rc.PseudonymKey] = analysis.NewPseudonyms(rc.PseudonymKey)
+	}
+	p.Pseudonyms = f.pseudonyms[rc.PseudonymKey]
+	return p
 }
 
 func marshalJSON(v any) ([]byte, error) {

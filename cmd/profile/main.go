@@ -1,5 +1,5 @@
 // Command profile runs the whole `caseweave report` pipeline on one line list with the
-// command's default settings (read, link, analyse, pseudonymise, render the default
+// command's default settings (read, link, analyse, release, render the default
 // template) under runtime/pprof, and prints the time of each stage. It is the profile
 // behind BENCHMARKS.md:
 //
@@ -71,9 +71,12 @@ func main() {
 		fail(err)
 	}
 	stage("analysis")
-	shown := s.Pseudonymised("")
-	stage("pseudonymise")
-	html, err := render.Render(shown, render.Options{ShowIDs: true})
+	rel, err := analysis.Release(s, analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")})
+	if err != nil {
+		fail(err)
+	}
+	stage("release")
+	html, err := render.Render(rel, render.Options{})
 	if err != nil {
 		fail(err)
 	}
@@ -94,7 +97,11 @@ func main() {
 			if err != nil {
 				fail(err)
 			}
-			if _, err := render.Render(s.Pseudonymised(""), render.Options{ShowIDs: true}); err != nil {
+			rel, err := analysis.Release(s, analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")})
+			if err != nil {
+				fail(err)
+			}
+			if _, err := render.Render(rel, render.Options{}); err != nil {
 				fail(err)
 			}
 			stage("jurisdiction " + v)

@@ -22,15 +22,8 @@ func label(s string) string {
 	return s
 }
 
-// suppress returns nil for a count below the threshold, so it shows as "<N" — small
-// counts in stratified tables can identify people (common practice; the threshold is the
-// template config's suppress_below, default 5).
-func (a *run) suppress(n int) *int {
-	if n > 0 && n < a.o.SuppressBelow {
-		return nil
-	}
-	return &n
-}
+// count is n as a summary's nullable count (Release withholds small ones).
+func count(n int) *int { return &n }
 
 // epiCurve counts selected cases by ISO onset week (Monday start) and setting, with every
 // week between the first and last present.
@@ -49,24 +42,28 @@ func (a *run) epiCurve() {
 		return
 	}
 	nWeeks := int((last-first)/7) + 1
-	ec := &EpiCurve{Weeks: make([]linelist.Day, nWeeks), Total: make([]int, nWeeks)}
+	ec := &EpiCurve{Weeks: make([]linelist.Day, nWeeks), Total: make([]*int, nWeeks)}
 	for k := range ec.Weeks {
 		ec.Weeks[k] = first + linelist.Day(7*k)
 	}
 	counts := map[string][]int{}
+	total := make([]int, nWeeks)
 	for _, i := range a.selected {
 		k := int((a.cases[i].Onset.ISOWeekStart() - first) / 7)
-		ec.Total[k]++
+		total[k]++
 		s := label(a.cases[i].Setting)
 		if counts[s] == nil {
 			counts[s] = make([]int, nWeeks)
 		}
 		counts[s][k]++
 	}
+	for k, n := range total {
+		ec.Total[k] = count(n)
+	}
 	for _, name := range sortedByTotal(counts) {
 		ser := Series{Name: name, Counts: make([]*int, nWeeks)}
 		for k, n := range counts[name] {
-			ser.Counts[k] = a.suppress(n)
+			ser.Counts[k] = count(n)
 		}
 		ec.Series = append(ec.Series, ser)
 	}
@@ -223,7 +220,7 @@ func (a *run) ageMixing() {
 	for r := range counts {
 		am.Counts[r] = make([]*int, len(groups))
 		for c, n := range counts[r] {
-			am.Counts[r][c] = a.suppress(n)
+			am.Counts[r][c] = count(n)
 		}
 	}
 	a.s.AgeMixing = am
@@ -255,8 +252,8 @@ func (a *run) strata() {
 		sort.Strings(names)
 		for _, v := range names {
 			x := m[v]
-			st := Stratum{Column: name, Value: v, Cases: a.suppress(x.cases)}
-			if st.Cases != nil && x.counted >= a.o.SuppressBelow {
+			st := Stratum{Column: name, Value: v, Cases: count(x.cases), Counted: count(x.counted)}
+			if x.counted > 0 {
 				st.MeanOffspring = numeric.FinitePtr(float64(x.offspring) / float64(x.counted))
 			}
 			a.s.Strata = append(a.s.Strata, st)

@@ -136,64 +136,6 @@ func TestCensoringWindow(t *testing.T) {
 	}
 }
 
-// Stratified counts below the threshold are suppressed, never shown.
-func TestSmallCountsSuppressed(t *testing.T) {
-	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
-	s := analyse(t, cases, Options{AsOf: day("2027-01-01"), Replicates: 20, Seed: 1, SuppressBelow: 5})
-	for _, st := range s.Strata {
-		if st.Cases != nil && *st.Cases > 0 && *st.Cases < 5 {
-			t.Errorf("stratum %s=%s shows %d", st.Column, st.Value, *st.Cases)
-		}
-	}
-	for _, row := range s.AgeMixing.Counts {
-		for _, c := range row {
-			if c != nil && *c > 0 && *c < 5 {
-				t.Errorf("age mixing shows a count of %d", *c)
-			}
-		}
-	}
-	for _, ser := range s.EpiCurve.Series {
-		for _, c := range ser.Counts {
-			if c != nil && *c > 0 && *c < 5 {
-				t.Errorf("epidemic curve series %s shows %d", ser.Name, *c)
-			}
-		}
-	}
-}
-
-// Pseudonymisation replaces every identifier and leaves neither the identifiers nor the
-// key in the JSON.
-func TestPseudonymised(t *testing.T) {
-	cases, _ := outbreak(t, 1.3, 0.3, 20, 2, "2026-04-01")
-	s := analyse(t, cases, Options{AsOf: day("2026-04-01"), Replicates: 50, Seed: 1})
-	const key = "sekrit-key-123"
-	p := s.Pseudonymised(key)
-	b, _ := json.Marshal(p)
-	if bytes.Contains(b, []byte(key)) {
-		t.Fatal("the key leaked")
-	}
-	for _, c := range cases {
-		if bytes.Contains(b, []byte(`"`+c.ID+`"`)) {
-			t.Fatalf("identifier %s leaked", c.ID)
-		}
-	}
-	if len(s.Clusters.Largest) == 0 || p.Clusters.Largest[0].Root == s.Clusters.Largest[0].Root {
-		t.Fatal("trees not pseudonymised")
-	}
-	// The same key gives the same pseudonyms; the original is untouched.
-	q := s.Pseudonymised(key)
-	if q.Clusters.Largest[0].Nodes[1].ID != p.Clusters.Largest[0].Nodes[1].ID {
-		t.Fatal("pseudonyms not stable")
-	}
-	ids := map[string]bool{}
-	for _, c := range cases {
-		ids[c.ID] = true
-	}
-	if !ids[s.Clusters.Largest[0].Nodes[0].ID] || !ids[s.Offspring.Superspreaders[0]] {
-		t.Fatal("the original summary was modified")
-	}
-}
-
 // TestBinsCountWhatTheyLeaveOut checks the bootstrap histogram's bookkeeping: every finite
 // value is in a bin or in Overflow, +∞ (k in the Poisson limit) in Infinite, NaN nowhere
 // (common practice: the counts must add up to the replicates).

@@ -117,7 +117,11 @@ func BenchmarkRunRender1M(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		html, err := render.Render(s.Pseudonymised(""), render.Options{ShowIDs: true})
+		rel, err := analysis.Release(s, analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")})
+		if err != nil {
+			b.Fatal(err)
+		}
+		html, err := render.Render(rel, render.Options{})
 		if err != nil {
 			b.Fatal(err)
 		}

@@ -36,10 +36,9 @@ type Options struct {
 	SerialFixed *[2]float64
 	// InferMissing assigns infectors to unlinked, non-imported cases by Wallinga–Teunis
 	// weights, afresh in every bootstrap replicate.
-	InferMissing  bool
-	Generations   int     // generations projected (default 4)
-	Share         float64 // target share of transmission (default 0.8)
-	SuppressBelow int     // stratified counts below this are suppressed (default 5)
+	InferMissing bool
+	Generations  int     // generations projected (default 4)
+	Share        float64 // target share of transmission (default 0.8)
 	// IncubationDays, if positive, adds the "twice the longest incubation period" rule of thumb.
 	IncubationDays int
 	// Select restricts the summary to some cases (a --by value); nil selects all. Offspring
@@ -128,12 +127,6 @@ func (o *Options) defaults() error {
 	if !(o.Share > 0 && o.Share < 1) {
 		return fmt.Errorf("the target share of transmission must be between 0 and 1, got %v", o.Share)
 	}
-	if o.SuppressBelow == 0 {
-		o.SuppressBelow = 5
-	}
-	if o.SuppressBelow < 1 {
-		return fmt.Errorf("the suppression threshold must be at least 1, got %d", o.SuppressBelow)
-	}
 	return nil
 }
 
@@ -159,7 +152,6 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	s.Scope = opts.Scope
 	s.Settings = RunSettings{
 		Replicates: opts.Replicates, Level: opts.Level, Interval: opts.Interval, Unit: opts.Unit,
-		SuppressBelow: opts.SuppressBelow,
 	}
 	a := &run{s: s, cases: ll.Cases, f: f, o: opts, family: offspring.NegBinFamily{}}
 	a.selectCases()
@@ -696,7 +688,7 @@ func (a *run) weekly() {
 	}
 	for _, w := range res.Weeks {
 		a.s.TimeVarying = append(a.s.TimeVarying, WeekR{
-			WeekStart: w.WeekStart, Cases: w.Cases, R: w.R, Lower: numeric.FinitePtr(w.Lower), Upper: numeric.FinitePtr(w.Upper), Censored: w.Censored,
+			WeekStart: w.WeekStart, Cases: count(w.Cases), R: numeric.FinitePtr(w.R), Lower: numeric.FinitePtr(w.Lower), Upper: numeric.FinitePtr(w.Upper), Censored: w.Censored,
 		})
 	}
 }

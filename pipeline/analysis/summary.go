@@ -59,8 +59,8 @@ type RunSettings struct {
 	Interval         string  `json:"interval"` // which interval headlines: "percentile" or "bca"
 	Unit             string  `json:"unit"`     // bootstrap unit: "case" or "cluster"
 	InferMissing     bool    `json:"infer_missing"`
-	SuppressBelow    int     `json:"suppress_below"`
-	Pseudonymised    bool    `json:"pseudonymised"`
+	SuppressBelow    int     `json:"suppress_below"` // the threshold a released view applied; 0 in the full summary
+	Pseudonymised    bool    `json:"pseudonymised"`  // identifiers replaced (a released view)
 }
 
 // Input describes the file read. Rows = Used + Rejected always.
@@ -272,11 +272,12 @@ type SerialHistogramBin struct {
 	Count int `json:"count"`
 }
 
-// WeekR is the mean offspring of cases with onset in one ISO week.
+// WeekR is the mean offspring of cases with onset in one ISO week. In a released view a week
+// whose count is withheld has Cases, R and its bounds null.
 type WeekR struct {
 	WeekStart linelist.Day `json:"week_start"`
-	Cases     int          `json:"cases"`
-	R         float64      `json:"R"`
+	Cases     *int         `json:"cases"`
+	R         *float64     `json:"R"`
 	Lower     *float64     `json:"lower"`
 	Upper     *float64     `json:"upper"`
 	Censored  bool         `json:"censored"`
@@ -311,15 +312,15 @@ type RuleOfThumb struct {
 	Date                  linelist.Day `json:"date"`
 }
 
-// EpiCurve counts cases by ISO onset week, one series per setting. Cells below the
-// suppression threshold are null in Series and counted only in Total.
+// EpiCurve counts cases by ISO onset week, one series per setting. In a released view
+// (Release) a withheld count is null, in Total and in Series alike.
 type EpiCurve struct {
 	Weeks  []linelist.Day `json:"weeks"`
-	Total  []int          `json:"total"`
+	Total  []*int         `json:"total"`
 	Series []Series       `json:"series"`
 }
 
-// Series is one named row of counts; a null count is suppressed.
+// Series is one named row of counts; a null count is withheld.
 type Series struct {
 	Name   string `json:"name"`
 	Counts []*int `json:"counts"`
@@ -364,18 +365,20 @@ type TreeNode struct {
 }
 
 // AgeMixing counts infector → infectee links by age group (rows infector, columns
-// infectee). Cells below the suppression threshold are null.
+// infectee). In a released view a withheld cell is null.
 type AgeMixing struct {
 	Groups []string `json:"groups"`
 	Counts [][]*int `json:"counts"`
 	Links  int      `json:"links"`
 }
 
-// Stratum summarises one setting: cases and mean offspring among uncensored cases. Counts
-// below the suppression threshold are null and the mean is withheld with them.
+// Stratum summarises one value of a descriptive column: its cases, and the mean offspring of
+// the Counted cases outside the censoring window. In a released view a withheld count is
+// null, Counted is null, and the mean is null unless Counted reached the threshold.
 type Stratum struct {
 	Column        string   `json:"column"`
 	Value         string   `json:"value"`
 	Cases         *int     `json:"cases"`
+	Counted       *int     `json:"counted"`
 	MeanOffspring *float64 `json:"mean_offspring"`
 }

@@ -1,4 +1,6 @@
-package render
+// Package output writes caseweave's files so that a reader never sees half of one: each file
+// goes to a temporary file beside its destination, is synced, and is renamed into place.
+package output
 
 import (
 	"fmt"
@@ -6,10 +8,10 @@ import (
 	"path/filepath"
 )
 
-// WriteFileAtomic writes data to path so that readers see either the old file or the new one,
+// WriteFile writes data to path so that readers see either the old file or the new one,
 // never a part: it writes a temporary file in the same directory, syncs it, and renames it
 // over path. On any failure the previous file is left untouched and the temporary removed.
-func WriteFileAtomic(path string, data []byte) (err error) {
+func WriteFile(path string, data []byte) (err error) {
 	dir := filepath.Dir(path)
 	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {

@@ -1,4 +1,7 @@
-package render
+// Package browser drives a headless Chromium for caseweave: it opens a report with every
+// network request blocked and counted, checks that each chart drew (InspectInBrowser), and
+// prints a report to A4 PDF (PrintPDF).
+package browser
 
 import (
 	"context"
