@@ -22,8 +22,11 @@
 //     and are placed by html/template inside a JSON script element, so "</script>" in data is
 //     written as \u003c/script\u003e.
 //
-// Template errors are *TemplateError values naming the file, line and field; the CLI maps
-// them to exit code 3. Tables are also written as CSV (WriteTables), with spreadsheet formula
-// injection neutralised, and every output goes through WriteFileAtomic. InspectInBrowser and
-// PrintPDF drive a headless chromium with every request blocked.
+// Render takes an analysis.Released, never a bare Summary: what a report shows has passed the
+// disclosure policy. Charts and tables are registries, one builder per file (chart_<name>.go,
+// table_<name>.go), found by name. Template errors are *TemplateError values naming the
+// file, line and field; the CLI maps them to exit code 3. Tables returns every table as CSV,
+// with spreadsheet formula injection neutralised, for the command to write. Config is a
+// template folder's config.yaml. Package render/browser drives a headless Chromium with
+// every request blocked, for the browser tests and the PDF.
 package render

@@ -25,7 +25,7 @@ func needBrowser(t *testing.T) {
 	}
 }
 
-// Issue 5: the demo's reports open with all network blocked; every chart initialises and
+// The demo's reports open with all network blocked; every chart initialises and
 // draws, nothing is logged as an error and no request leaves the page. The demo is also
 // byte-identical across runs.
 func TestDemoReportsInBrowser(t *testing.T) {

@@ -71,7 +71,7 @@ func (l ledger) has(code string, row int) bool {
 	return false
 }
 
-// Issue 7's input gauntlet: each hostile file ends with exit 1 and a message naming what is
+// The input gauntlet: each hostile file ends with exit 1 and a message naming what is
 // wrong, or exit 0 with its problems in the ledger; never a panic.
 func TestInputGauntlet(t *testing.T) {
 	dir := t.TempDir()
@@ -178,7 +178,7 @@ func TestInputGauntlet(t *testing.T) {
 }
 
 // An infector chain 1,000,000 cases deep is read, linked and summarised without exhausting
-// the stack (issue 7).
+// the stack.
 func TestMillionDeepChain(t *testing.T) {
 	if testing.Short() {
 		t.Skip("short")

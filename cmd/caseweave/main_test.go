@@ -75,7 +75,7 @@ func TestCheckExitCodes(t *testing.T) {
 	}
 }
 
-// Issue 2: every problem code on one fixture, rows read = used + rejected, and the
+// Every problem code on one fixture, rows read = used + rejected, and the
 // documented check --json schema.
 func TestCheckJSONEveryProblemCode(t *testing.T) {
 	code, stdout, stderr := cli(t, "check", "--as-of", "2026-04-01", "--json", "-", "../../testdata/linelist/all-codes.csv")
@@ -138,7 +138,7 @@ func TestCheckJSONEveryProblemCode(t *testing.T) {
 	}
 }
 
-// A simulated line list passes check cleanly (issue 2, item 6).
+// A simulated line list passes check cleanly.
 func TestSimulatedListIsClean(t *testing.T) {
 	dir := t.TempDir()
 	list := filepath.Join(dir, "sim.csv")

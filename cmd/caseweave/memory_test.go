@@ -11,7 +11,7 @@ import (
 	"testing"
 )
 
-// Issue 7: a 10,000,000-row line list is read, validated and linked in under 2 GB of memory.
+// A 10,000,000-row line list is read, validated and linked in under 2 GB of memory.
 // It builds the real program and reads the peak resident set size the kernel reports for
 // it. It writes a 640 MB file, so it runs only with CASEWEAVE_BIG=1 (.ci/test sets it, in
 // a run without the race detector, whose shadow memory would be measured too).

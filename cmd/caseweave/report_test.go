@@ -172,7 +172,7 @@ func TestHostileValuesAreInert(t *testing.T) {
 	}
 }
 
-// Issue 5: --by on a three-jurisdiction list writes a report and a JSON per value and an
+// --by on a three-jurisdiction list writes a report and a JSON per value and an
 // index linking them; two runs are byte-identical.
 func TestReportByJurisdictionDeterministic(t *testing.T) {
 	dir := t.TempDir()
@@ -270,8 +270,8 @@ func TestReportByUsesValueTemplate(t *testing.T) {
 	}
 }
 
-// A template cannot read a file outside its folder, not even through a symbolic link
-// (issue 7): the folder is opened as an os.Root.
+// A template cannot read a file outside its folder, not even through a symbolic link: the
+// folder is opened as an os.Root.
 func TestTemplateSymlinkCannotEscape(t *testing.T) {
 	dir := t.TempDir()
 	list := simulated(t, dir)

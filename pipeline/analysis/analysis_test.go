@@ -52,7 +52,7 @@ func analyse(t *testing.T, cases []linelist.Case, o Options) *Summary {
 	return s
 }
 
-// DOMAIN.md §5 and issue 6: with 20% of links removed at random, ignoring the gaps biases
+// Wallinga & Teunis (2004): with 20% of links removed at random, ignoring the gaps biases
 // mean offspring low by about 20%, and Wallinga–Teunis inference brings it back to the
 // complete-data value within sampling error.
 func TestInferMissingRecoversR(t *testing.T) {
@@ -116,7 +116,7 @@ func TestDeterministicAcrossWorkers(t *testing.T) {
 }
 
 // The censoring window leaves out exactly the cases with onset fewer than w days before
-// the analysis date (DOMAIN.md §5, common practice).
+// the analysis date (common practice).
 func TestCensoringWindow(t *testing.T) {
 	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
 	asOf := cases[len(cases)-1].Onset + 3

@@ -66,7 +66,7 @@ func lastOnset(ll *linelist.LineList) linelist.Day {
 	return d
 }
 
-// BenchmarkIngestForest1M is target 1 of issue 8: linelist.ReadFile + forest.Build on the
+// BenchmarkIngestForest1M is the ingest target of BENCHMARKS.md: linelist.ReadFile + forest.Build on the
 // 1M-row file, against the floor of cmd/floor. It reports ns/row and the heap the result
 // keeps per case (HeapAlloc after a GC with the line list and forest alive, less the heap
 // before the read).

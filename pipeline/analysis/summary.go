@@ -110,7 +110,7 @@ type Estimate struct {
 	BCa        [2]*float64 `json:"bca"`
 }
 
-// Offspring is the offspring-distribution section (DOMAIN.md §3, §6).
+// Offspring is the offspring-distribution section [Lloyd-Smith et al. 2005; Efron 1987].
 type Offspring struct {
 	N          int     `json:"n"`        // cases whose offspring were counted
 	Censored   int     `json:"censored"` // cases left out: onset inside the censoring window
@@ -210,7 +210,7 @@ type CurvePoint struct {
 	Y float64 `json:"y"`
 }
 
-// Outlook is the branching-process outlook from the fitted model (DOMAIN.md §2, §4, §6).
+// Outlook is the branching-process outlook from the fitted model [Harris 1963; Blumberg & Lloyd-Smith 2013].
 type Outlook struct {
 	Model                    string       `json:"model"`
 	ExtinctionProbability    Estimate     `json:"extinction_probability"`
@@ -235,7 +235,7 @@ type Projection struct {
 	PZero      float64  `json:"p_zero"`
 }
 
-// SerialInterval is the fitted serial-interval distribution (DOMAIN.md §5).
+// SerialInterval is the fitted serial-interval distribution (interval-censored maximum likelihood; package timing).
 type SerialInterval struct {
 	N                 int                  `json:"n"`
 	Negative          int                  `json:"negative"`

@@ -112,7 +112,7 @@ func BenchmarkFitChainSizes(b *testing.B) {
 }
 
 // BenchmarkProjectNational is the projection of a national report: 200 replicates around
-// R = 0.99, k = 0.5 from 19,604 active cases, four generations (issue 8's 1M-case file).
+// R = 0.99, k = 0.5 from 19,604 active cases, four generations (the benchmark's 1M-case file, BENCHMARKS.md).
 func BenchmarkProjectNational(b *testing.B) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	reps := make([]offspring.Distribution, 200)

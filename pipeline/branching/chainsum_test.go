@@ -53,7 +53,7 @@ func TestSmoothSumMatchesTermByTerm(t *testing.T) {
 }
 
 // TestChainLogLikQuadratureNational checks the likelihood and the fit on the cluster sizes
-// of issue 8's 1M-case file, whose largest censored cluster has 21,729 cases: the quadrature
+// of the benchmark's 1M-case file, whose largest censored cluster has 21,729 cases: the quadrature
 // sum beyond chainSumFrom must give the log-likelihood of the term-by-term sum to 1e−11
 // relative, and the fit must be a maximum of the term-by-term likelihood too: no point a
 // small step away (far inside the standard errors) may score higher.

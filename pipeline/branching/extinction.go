@@ -31,7 +31,7 @@ func ExtinctionProbability(d offspring.Distribution) (float64, error) {
 }
 
 // MajorOutbreakProbability is 1 − q, the probability that one introduction starts a chain
-// that never dies out (DOMAIN.md §2). It is computed directly as the positive root u of
+// that never dies out [Harris 1963]. It is computed directly as the positive root u of
 // h(u) = u − (1 − G(1 − u)), not as 1 − q, so it keeps its relative precision when it is
 // small (R just above 1, where u ≈ 2(R − 1)/E[Z(Z − 1)] [Harris 1963]).
 func MajorOutbreakProbability(d offspring.Distribution) (float64, error) {

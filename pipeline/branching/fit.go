@@ -363,7 +363,7 @@ type ChainBootstrap struct {
 }
 
 // BootstrapChainFit refits the chain-size model to B cluster-bootstrap resamples (whole
-// clusters drawn with replacement, which respects dependence within chains; DOMAIN.md §6)
+// clusters drawn with replacement, which respects dependence within chains; common practice)
 // and returns percentile intervals at `level` [Efron & Tibshirani 1993, ch. 13] using
 // Hyndman–Fan type 7 quantiles. Replicate b draws from its own PCG stream derived from
 // (seed, b) and the replicates run on `workers` goroutines (< 1 means 1); the result does

@@ -103,7 +103,7 @@ func TestFitChainSizesPoissonLimit(t *testing.T) {
 func TestFitChainSizesUnderdispersed(t *testing.T) {
 	// Offspring 0 or 1 with probability 1/2 each (variance 1/4 < mean 1/2): less dispersed
 	// than Poisson, so the NB likelihood increases towards k → ∞ and the fit must report the
-	// Poisson limit with k nil (DOMAIN.md §3), not a huge number.
+	// Poisson limit with k nil (Levin & Reeds 1977), not a huge number.
 	obs := simulateClusters(offspring.Empirical{P: []float64{0.5, 0.5}}, 2000, 1000, 8)
 	fit, err := FitChainSizes(obs)
 	if err != nil {

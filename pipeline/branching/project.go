@@ -40,7 +40,7 @@ type Projection struct {
 // replicate offspring distributions (bootstrap replicates; pass the point estimate alone
 // when there are none). The mixture PGF (1/B)·Σ_b G_{b,n}(s)^a is linear in the PMFs, so
 // averaging PGF values at the FFT points and decoding once per generation gives the
-// mixture's PMF exactly (DOMAIN.md §6; decoding as in GenerationSizes [Abate & Whitt
+// mixture's PMF exactly (the PGF is linear in the PMF; decoding as in GenerationSizes [Abate & Whitt
 // 1992]). a = 0 gives the point mass at 0.
 func Project(replicates []offspring.Distribution, active, generations int) (*Projection, error) {
 	if len(replicates) == 0 {

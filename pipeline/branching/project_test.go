@@ -9,7 +9,7 @@ import (
 
 func TestProjectMixture(t *testing.T) {
 	// The mixture PGF is the average of the PGFs, so the mixture PMF is the average of
-	// the component PMFs (linearity; DOMAIN.md §6). Check against GenerationSizes run per
+	// the component PMFs (the PGF is linear in the PMF). Check against GenerationSizes run per
 	// component and averaged here.
 	reps := []offspring.Distribution{
 		offspring.NegBin{R: 1.1, K: 0.4}, offspring.NegBin{R: 0.7, K: 0.9}, offspring.NegBin{R: 1.4, K: 0.2},

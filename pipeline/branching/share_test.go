@@ -30,7 +30,7 @@ func TestShareByNu(t *testing.T) {
 			}
 		}
 	}
-	// Poisson: ν = R for everyone, so the share is the target (DOMAIN.md §3).
+	// Poisson: ν = R for everyone, so the share is the target [Lloyd-Smith et al. 2005].
 	if s, _ := ShareByNu(offspring.Poisson{R: 2}, 0.8); s == nil || *s != 0.8 {
 		t.Errorf("Poisson share %v", s)
 	}
@@ -47,7 +47,7 @@ func TestShareByNu(t *testing.T) {
 
 // bruteShare ranks a large population of "cases" with PMF weights by hand: the smallest
 // share of cases whose offspring reach target of all offspring, interpolating within the
-// boundary count (DOMAIN.md §3, reading (b)); written independently of offspring.ConcentrationShare.
+// boundary count (the "20/80" reading of Lloyd-Smith et al. 2005, applied to counts); written independently of offspring.ConcentrationShare.
 func bruteShare(p []float64, target float64) float64 {
 	type cell struct {
 		x int

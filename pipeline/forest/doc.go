@@ -1,6 +1,6 @@
 // Package forest turns the infector links of a line list into a transmission forest: a
 // directed forest whose trees are clusters (transmission chains) rooted at index, imported
-// or unlinked cases (DOMAIN.md §1).
+// or unlinked cases.
 //
 // Real data break the forest — links to unknown identifiers, self-links, cycles — and none
 // of these may crash a run or vanish silently: Build repairs what it must (drops the link)

@@ -78,7 +78,7 @@ func (f *Forest) LargestCluster() int {
 }
 
 // Build links the cases into a forest. Case IDs must be unique (the line-list reader
-// guarantees it, rejecting duplicates). Links are repaired as DOMAIN.md §1 asks:
+// guarantees it, rejecting duplicates). Links are repaired so that no row is lost without a word:
 //   - self_infector: a case naming itself loses the link;
 //   - unknown_infector: a link to an identifier with no row is dropped, the case kept unlinked;
 //   - cycle: every case on a cycle of links is reported and the links on the cycle dropped, so

@@ -6,10 +6,12 @@
 // # Columns
 //
 // The canonical columns are case_id (required), infector_id, onset_date (required),
-// report_date, setting, age_group, jurisdiction and imported. Without a config, headers are
-// recognised by the variants HeaderVariants lists, ignoring case, spaces, hyphens,
-// underscores and dots ("Case ID", "Date of onset", "infected_by"). A jurisdiction Config
-// maps any other header. Columns outside the canonical set are skipped: their values are
+// report_date, setting, age_group, jurisdiction and imported: the table Columns, which says
+// for each its header variants, how it is decoded and written, and whether a report can be
+// split by it. Without a config, headers are recognised by their variants, ignoring case,
+// spaces, hyphens, underscores and dots ("Case ID", "Date of onset", "infected_by"). The
+// input section of a jurisdiction config (InputConfig, read by ParseInput) maps any other
+// header. Columns outside the canonical set are skipped: their values are
 // never copied out of the CSV reader's buffer, so personal data in an export (names, phone
 // numbers) never reach a Case.
 //

@@ -78,7 +78,7 @@ const replicateChunk = 64
 //
 // Case bootstrap: resampling the n cases with replacement gives counts
 // (N_1, …, N_d) ~ Multinomial(n; c_1/n, …, c_d/n) over the d distinct offspring values, drawn
-// exactly as sequential conditional binomials in O(d) (DOMAIN.md §6). Its jackknife leaves out
+// exactly as sequential conditional binomials in O(d) (numeric.Multinomial). Its jackknife leaves out
 // one case: one fit per distinct value, with weight c_i.
 //
 // Cluster bootstrap: the C clusters are drawn C times with replacement and their tables

@@ -30,7 +30,7 @@ func covers(iv [2]float64, x float64) bool { return iv[0] <= x && x <= iv[1] }
 // runCoverage simulates sc.Datasets offspring tables of sc.Cases cases each from the
 // negative binomial (R, k) gamma–Poisson mixture, bootstraps each (case bootstrap, sc.B
 // replicates) and counts how often the 95% intervals contain the true R and k
-// (DOMAIN.md §6: "check calibration by simulation"). Dataset d uses generator stream
+// (common practice: check calibration by simulation). Dataset d uses generator stream
 // (seed, d) and bootstrap seed d, so the study is reproducible.
 func runCoverage(t *testing.T, sc coverageScenario, seed uint64) coverageCounts {
 	t.Helper()

@@ -5,7 +5,7 @@ import "sort"
 // FreqTable is the frequency table of offspring counts: Counts[i] cases caused Values[i]
 // secondary cases each. Values are distinct and ascending; Counts are positive. Every
 // likelihood, bootstrap replicate and jackknife in caseweave works on this table, so their
-// cost grows with the number of distinct counts, not with the number of cases (DOMAIN.md §3, §6).
+// cost grows with the number of distinct counts, not with the number of cases.
 type FreqTable struct {
 	Values []int
 	Counts []int

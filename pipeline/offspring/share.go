@@ -9,7 +9,7 @@ import (
 
 // ConcentrationShare is the smallest share of cases that together caused `target` of all
 // secondary cases, when cases are ranked by their offspring count, largest first
-// (DOMAIN.md §3, reading (b); Lloyd-Smith et al. 2005 use the same "20/80" reading).
+// (the "20/80" reading of Lloyd-Smith et al. 2005).
 // weights[i] is the mass (a count of cases, or a probability) of cases with values[i]
 // offspring. Within the boundary value the share is interpolated linearly, as if cases at
 // that value were divisible: with weights being probabilities this is the model-based share,

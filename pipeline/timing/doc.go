@@ -1,4 +1,4 @@
-// Package timing holds caseweave's time-based estimates (DOMAIN.md §5–§6):
+// Package timing holds caseweave's time-based estimates:
 //
 //   - FitSerialInterval fits gamma, lognormal and Weibull serial intervals to integer onset
 //     differences by maximum likelihood with daily interval censoring, picks one by AIC,

@@ -97,8 +97,7 @@ func (e *TooFewIntervalsError) Error() string {
 
 // FitSerialInterval fits gamma, lognormal and Weibull serial intervals to integer onset
 // differences (infectee minus infector, in days) by maximum likelihood with daily interval
-// censoring: interval d contributes log(F(d + 0.5) − F(max(d − 0.5, 0))) (DOMAIN.md §5;
-// the coarse-data likelihood of Reich et al. 2009, Stat Med 28:2769, with a one-day window;
+// censoring: interval d contributes log(F(d + 0.5) − F(max(d − 0.5, 0))) (the coarse-data likelihood of Reich et al. 2009, Stat Med 28:2769, with a one-day window;
 // citation recalled from memory).
 // Negative intervals are counted and excluded. Each fit maximises over log-parameters
 // (lognormal: meanlog and log sdlog) with Nelder–Mead from method-of-moments starts
@@ -107,7 +106,7 @@ func (e *TooFewIntervalsError) Error() string {
 // model has the lowest AIC. With opt.Bootstrap = B > 0, the mean and 95th percentile of
 // the best family get percentile intervals [Efron & Tibshirani 1993, ch. 13] from B case
 // bootstrap replicates, each a multinomial draw over the table of distinct intervals
-// (DOMAIN.md §6), refitted within the best family.
+// (numeric.Multinomial), refitted within the best family.
 func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
 	tab, neg := tabulateIntervals(intervals)
 	out := SerialFit{N: tab.n, Negative: neg, NegativeTreatment: NegativeTreatment}

@@ -209,7 +209,7 @@ type simCase struct {
 	group    int
 }
 
-// simulateBGW runs a Bienaymé–Galton–Watson process (DOMAIN.md §2) to extinction: index
+// simulateBGW runs a Bienaymé–Galton–Watson process [Harris 1963] to extinction: index
 // cases start at uniform times in [0, horizon), each case has NB(R, k) offspring drawn as
 // Poisson(Gamma(k, mean R)) [Lloyd-Smith et al. 2005], and each infectee's onset follows
 // its infector's by a gamma serial interval. Infectees inherit the group of their index case.

@@ -17,7 +17,7 @@ const (
 // SerialInterval is a continuous distribution on (0, ∞) for the time in days from a
 // infector's symptom onset to its infectee's. Onsets are whole days, so what the data
 // see of it is DailyMass: the probability that a continuous interval rounds to d days,
-// F(d + 0.5) − F(max(d − 0.5, 0)) (DOMAIN.md §5). Every method returns NaN, never
+// F(d + 0.5) − F(max(d − 0.5, 0)). Every method returns NaN, never
 // panics, when the parameters are invalid (see Validate).
 type SerialInterval interface {
 	// Name is NameGamma, NameLogNormal or NameWeibull.

@@ -27,7 +27,7 @@ type WeeklyOptions struct {
 	// AnalysisDate is the date the data describe (the last day follow-up could see).
 	AnalysisDate linelist.Day
 	// Window is w, in days: a case with onset t is incomplete when AnalysisDate − t < w.
-	// A usual choice is the serial interval's 95th percentile (DOMAIN.md §5).
+	// A usual choice is the serial interval's 95th percentile (common practice).
 	Window int
 	// Level of the intervals; 0 means 0.95.
 	Level float64
@@ -53,7 +53,7 @@ type WeeklyResult struct {
 const WeeklyIntervalMethod = "exact negative-binomial interval for the weekly mean with pooled dispersion k (Poisson/Garwood when k = ∞)"
 
 // WeeklyR groups cases by the ISO week (Monday start) of their onset and gives, per week
-// with cases, R = mean offspring and an exact interval (DOMAIN.md §5).
+// with cases, R = mean offspring and an exact interval.
 //
 // Interval. Offspring counts are overdispersed: Z ~ NB(R, k) [Lloyd-Smith et al. 2005,
 // Nature 438:355]. The week's total S = ΣZ over its n cases is then NB with size nk and
@@ -178,7 +178,7 @@ func MeanInterval(n int, total, k, alpha float64) (lower, upper float64) {
 }
 
 // DispersionMLE is the maximum-likelihood negative-binomial dispersion k of the counts:
-// the root of Σ_i [ψ(x_i + k) − ψ(k)] + n·log(k/(k + x̄)) = 0 (DOMAIN.md §3; Lloyd-Smith
+// the root of Σ_i [ψ(x_i + k) − ψ(k)] + n·log(k/(k + x̄)) = 0 (Lloyd-Smith
 // 2005), solved on the table of distinct values by bisection in log k. It returns +Inf
 // (the Poisson limit) when the sample variance does not exceed the mean, the score has no
 // root below k = 10^8, or there are fewer than two counts, and NaN for invalid counts.

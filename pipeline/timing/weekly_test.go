@@ -139,7 +139,7 @@ func TestMeanIntervalMatchesSciPy(t *testing.T) {
 
 // TestDispersionMLE against scipy.optimize.minimize_scalar on scipy.stats.nbinom.logpmf
 // (SciPy 1.10.1), and the Poisson limit when the variance does not exceed the mean
-// (DOMAIN.md §3).
+// (Levin & Reeds 1977).
 func TestDispersionMLE(t *testing.T) {
 	ref := loadReference(t)
 	if got := DispersionMLE(ref.NBK.Counts); relErr(got, ref.NBK.K) > 1e-6 {
