@@ -34,6 +34,20 @@ func mustRender(t testing.TB, s *analysis.Summary, o Options) string {
 	return string(out)
 }
 
+// renderReleased releases s under policy p and renders it.
+func renderReleased(t testing.TB, s *analysis.Summary, p analysis.Policy, o Options) (*analysis.Released, string) {
+	t.Helper()
+	rel, err := analysis.Release(s, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := Render(rel, o)
+	if err != nil {
+		t.Fatalf("Render: %v", err)
+	}
+	return rel, string(out)
+}
+
 // outsideScripts removes script elements, leaving the markup a reader sees.
 func outsideScripts(html string) string {
 	return regexp.MustCompile(`(?s)<script[^>]*>.*?</script>`).ReplaceAllString(html, "")
@@ -230,15 +244,7 @@ func TestPseudonymKeyNeverInOutput(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rel, err := analysis.Release(fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(cfg.PseudonymKey)})
-	if err != nil {
-		t.Fatal(err)
-	}
-	out, err := Render(rel, Options{Config: &cfg})
-	if err != nil {
-		t.Fatal(err)
-	}
-	html := string(out)
+	rel, html := renderReleased(t, fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(cfg.PseudonymKey)}, Options{Config: &cfg})
 	if strings.Contains(html, key) {
 		t.Fatal("the pseudonym key appears in the report")
 	}
@@ -265,15 +271,7 @@ func TestPseudonymKeyNeverInOutput(t *testing.T) {
 
 func TestSuppressionThresholdFromConfig(t *testing.T) {
 	cfg := Config{SuppressBelow: 40}
-	rel, err := analysis.Release(fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow})
-	if err != nil {
-		t.Fatal(err)
-	}
-	out, err := Render(rel, Options{Config: &cfg})
-	if err != nil {
-		t.Fatal(err)
-	}
-	html := string(out)
+	_, html := renderReleased(t, fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow}, Options{Config: &cfg})
 	// The care-home stratum has 32 cases: below 40 it is withheld with its mean.
 	if !strings.Contains(html, "<td>care home</td>\n<td style=\"text-align:right\">withheld</td>\n<td style=\"text-align:right\">withheld</td>") {
 		t.Error("counts below the configured threshold are not withheld")

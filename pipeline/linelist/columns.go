@@ -197,7 +197,7 @@ func decodeReport(rd *reader, r *rowState, rep string) {
 	}
 	d, err := ParseDate(rep, rd.in.DateFormat)
 	if err != nil {
-		rd.problem(r.line, ColReportDate, CodeBadDate, SeverityWarning, "report_date: "+err.Error()+"; report date left blank")
+		rd.problem(r.line, ColReportDate, CodeBadDate, SeverityError, "report_date: "+err.Error()+"; the report date was dropped and the case kept")
 		return
 	}
 	r.c.Report, r.c.HasReport = d, true
@@ -209,6 +209,6 @@ func decodeImported(rd *reader, r *rowState, v string) {
 	case "yes", "true", "1", "y":
 		r.c.Imported = true
 	default:
-		rd.problem(r.line, ColImported, CodeBadValue, SeverityWarning, fmt.Sprintf("imported %q is not one of yes, no, true, false, 1, 0, y, n (or blank); read as not imported", clip(v)))
+		rd.problem(r.line, ColImported, CodeBadValue, SeverityError, fmt.Sprintf("imported %q is not one of yes, no, true, false, 1, 0, y, n (or blank); the value was dropped and the case read as not imported", clip(v)))
 	}
 }

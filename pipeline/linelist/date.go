@@ -36,6 +36,9 @@ func ParseDate(s string, format DateFormat) (Day, error) {
 		return 0, fmt.Errorf("date is blank")
 	}
 	if y, m, d, ok := parseISO(s); ok {
+		if err := checkTime(s, timeSuffix(s, 10)); err != nil {
+			return 0, err
+		}
 		return civilDay(s, y, m, d)
 	}
 	switch format {
@@ -43,6 +46,11 @@ func ParseDate(s string, format DateFormat) (Day, error) {
 		a, b, y, ok := parseSeparated(s)
 		if !ok {
 			return 0, fmt.Errorf("date %q is neither YYYY-MM-DD nor %s; fix the cell or check input.date_format in the jurisdiction config", clip(s), formatPattern(format))
+		}
+		if i := strings.IndexAny(s, " T"); i > 0 {
+			if err := checkTime(s, s[i:]); err != nil {
+				return 0, err
+			}
 		}
 		if format == DateDMY {
 			return civilDay(s, y, b, a)
@@ -106,6 +114,64 @@ func parseSeparated(s string) (a, b, y int, ok bool) {
 		return 0, 0, 0, false
 	}
 	return atoi(s[:i]), atoi(rest[:j]), atoi(yr[:4]), true
+}
+
+// timeSuffix is what follows the date at position i of an ISO date cell ("" for none).
+func timeSuffix(s string, i int) string {
+	if len(s) <= i || len(s) == 8 {
+		return ""
+	}
+	return s[i:]
+}
+
+// checkTime rejects a time of day that cannot be one (25:00, 12:61): the time is ignored,
+// but an impossible one says the cell is wrong. It accepts hh, hh:mm, hh:mm:ss with an
+// optional fraction, and an optional zone (Z or ±hh[:mm]).
+func checkTime(cell, t string) error {
+	if t == "" {
+		return nil
+	}
+	bad := fmt.Errorf("date %q has an impossible time of day %q; fix the cell (the time is not used, but a wrong one suggests a wrong date)", clip(cell), clip(strings.TrimSpace(t[1:])))
+	t = t[1:]
+	if i := strings.IndexAny(t, "Z+-"); i >= 0 {
+		zone := t[i:]
+		t = t[:i]
+		if zone != "Z" {
+			h, m, ok := hourMinute(zone[1:])
+			if !ok || h > 14 || m > 59 {
+				return bad
+			}
+		}
+	}
+	if i := strings.IndexAny(t, ".,"); i >= 0 {
+		if !allDigits(t[i+1:]) || i+1 == len(t) {
+			return bad
+		}
+		t = t[:i]
+	}
+	parts := strings.Split(t, ":")
+	limits := []int{23, 59, 60} // a leap second is 60
+	if len(parts) > 3 {
+		return bad
+	}
+	for i, p := range parts {
+		if len(p) != 2 || !allDigits(p) || atoi(p) > limits[i] {
+			return bad
+		}
+	}
+	return nil
+}
+
+// hourMinute reads hh or hh:mm (or hhmm) of a zone offset.
+func hourMinute(z string) (h, m int, ok bool) {
+	z = strings.ReplaceAll(z, ":", "")
+	switch {
+	case len(z) == 2 && allDigits(z):
+		return atoi(z), 0, true
+	case len(z) == 4 && allDigits(z):
+		return atoi(z[:2]), atoi(z[2:]), true
+	}
+	return 0, 0, false
 }
 
 // isTimeSuffix accepts "T12:30", " 00:00:00", "T08:00:00.000Z", "T08:00+02:00".

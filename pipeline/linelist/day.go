@@ -48,9 +48,12 @@ func (d Day) ISOWeekStart() Day {
 // ISOWeek returns d's ISO 8601 year and week number.
 func (d Day) ISOWeek() (year, week int) { return d.Time().ISOWeek() }
 
-// ParseISODay parses YYYY-MM-DD strictly.
+// ParseISODay parses a YYYY-MM-DD date given on the command line (an analysis date, a start
+// date) by the rule that applies to the dates of a line list: a real calendar date with a
+// year from 1900 to 2200.
 func ParseISODay(s string) (Day, error) {
-	var d Day
-	err := d.UnmarshalText([]byte(s))
-	return d, err
+	if len(s) != 10 {
+		return 0, fmt.Errorf("date %q is not YYYY-MM-DD", clip(s))
+	}
+	return ParseDate(s, DateISO)
 }

@@ -47,11 +47,11 @@
 //   - duplicate_id (error): case_id seen on an earlier row; the first row is kept, this one
 //     rejected, and the message names the first row's line.
 //   - bad_date on onset_date (error, blank or unreadable; rejected: onset is required);
-//     on report_date (warning; the report date is left blank and the case kept).
-//   - bad_value: imported outside yes/no/true/false/1/0/y/n/blank (warning; read as not
-//     imported). A cell that is not valid UTF-8 or holds a NUL byte: in case_id an error
-//     (row rejected), in infector_id an error (link dropped, case kept), in setting,
-//     age_group or jurisdiction a warning (value left blank).
+//     on report_date (error: the report date is dropped and the case kept).
+//   - bad_value (error: a value was dropped): imported outside
+//     yes/no/true/false/1/0/y/n/blank (read as not imported); a cell that is not valid UTF-8
+//     or holds a NUL byte (in case_id the row is rejected, in infector_id the link dropped,
+//     in setting, age_group or jurisdiction the value dropped; the case is kept).
 //   - future_onset (warning): onset after Options.AsOf; the case is kept.
 //
 // Rows are numbered by the physical line on which the record starts (header = line 1), so

@@ -5,8 +5,8 @@ import (
 	"sort"
 )
 
-// Severity says whether a problem cost data (Error: the row or link was dropped) or only
-// deserves a look (Warning: the data were kept as they are).
+// Severity says whether a problem cost data (Error: a row, a value or a link was dropped)
+// or only deserves a look (Warning: the data were kept as they are).
 type Severity string
 
 const (

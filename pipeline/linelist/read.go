@@ -43,6 +43,7 @@ type LineList struct {
 	Mapping   map[string]string // canonical column -> header it was read from
 	Delimiter rune              // ',', ';' or '\t'
 	Encoding  string            // EncUTF8, EncUTF8BOM, EncLatin1 or EncWindows1252
+	CROnly    bool              // the file ends its lines with a carriage return alone
 	// ByID lists the indices of Cases in order of their identifiers (byte order), for
 	// lookups by binary search: the duplicate check sorts the identifiers anyway, and a
 	// sorted index costs 4 bytes a case where a map would cost about 40.
@@ -56,6 +57,7 @@ const (
 	FileEmpty               FileCode = "empty"                // no bytes, or only blank lines
 	FileNoHeader            FileCode = "no_header"            // the first line has no column names
 	FileNoDataRows          FileCode = "no_data_rows"         // a header and nothing else
+	FileNoUsableRows        FileCode = "no_usable_rows"       // data rows, every one rejected
 	FileNotCSV              FileCode = "not_csv"              // binary content
 	FileUnsupportedEncoding FileCode = "unsupported_encoding" // UTF-16 and other encodings not read
 	FileMissingColumn       FileCode = "missing_column"       // a required or configured column is absent
@@ -169,6 +171,14 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 	if atEOF && len(bytes.TrimSpace(prefix)) == 0 {
 		return nil, &FileError{Code: FileEmpty, Err: errors.New("the file is empty; export the line list again with its header and rows")}
 	}
+	// An export with carriage returns alone for line ends (the "CSV (Macintosh)" format of
+	// older spreadsheets) is read with each CR as a line break; the decision rests on the
+	// prefix holding CRs and no LF.
+	crOnly := bytes.IndexByte(prefix, '\r') >= 0 && bytes.IndexByte(prefix, '\n') < 0
+	if crOnly {
+		br = bufio.NewReaderSize(crAsLF{br}, prefixSize)
+		prefix = bytes.ReplaceAll(prefix, []byte{'\r'}, []byte{'\n'})
+	}
 	if looksBinary(prefix) {
 		return nil, &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)")}
 	}
@@ -217,7 +227,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 	}
 
 	rd := &reader{
-		ll:     &LineList{Header: header, Mapping: mapping, Delimiter: delim},
+		ll:     &LineList{Header: header, Mapping: mapping, Delimiter: delim, CROnly: crOnly},
 		idx:    idx,
 		in:     in,
 		asOf:   opts.AsOf,
@@ -260,6 +270,9 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		return nil, &FileError{Code: FileNoDataRows, Err: errors.New("the file has a header but no data rows; check that the export included the cases")}
 	}
 	rd.dropDuplicates()
+	if len(ll.Cases) == 0 {
+		return nil, rd.noUsableRows()
+	}
 	ll.Encoding = dec.encoding()
 	SortProblems(ll.Problems)
 	return ll, nil
@@ -310,6 +323,9 @@ func (rd *reader) fieldCount(rec []string, line, last, want int) {
 	msg := fmt.Sprintf("the row has %d fields but the header has %d; check for a delimiter inside an unquoted value or a missing or extra field; row rejected", len(rec), want)
 	if last > line {
 		msg = fmt.Sprintf("the row has %d fields but the header has %d, and the record runs from line %d to line %d, so a quote is probably unbalanced; fix the quoting; row rejected", len(rec), want, line, last)
+	}
+	if slices.ContainsFunc(rec, func(f string) bool { return strings.ContainsRune(f, '\r') }) {
+		msg += "; a carriage return (CR) inside it suggests two rows run together (a line ended by a CR alone): end every line the same way"
 	}
 	rd.problem(line, "", CodeFieldCount, SeverityError, msg)
 }
@@ -365,7 +381,7 @@ func (rd *reader) stratum(v, col string, line int) string {
 		return s
 	}
 	if why := rd.badText(v); why != "" {
-		rd.problem(line, col, CodeBadValue, SeverityWarning, col+" "+why+"; value left blank")
+		rd.problem(line, col, CodeBadValue, SeverityError, col+" "+why+"; the value was dropped and the case kept")
 		return ""
 	}
 	s := strings.Clone(v)
@@ -427,4 +443,53 @@ func (rd *reader) dropDuplicates() {
 	rd.ll.Cases = kept
 	rd.ll.ByID = byID
 	rd.ll.Rejected += dups
+}
+
+// crAsLF reads a source whose lines end in a carriage return alone, turning each CR into a
+// line feed; such a file has no LF of its own.
+type crAsLF struct{ r io.Reader }
+
+func (c crAsLF) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	for i, b := range p[:n] {
+		if b == '\r' {
+			p[i] = '\n'
+		}
+	}
+	return n, err
+}
+
+// noUsableRows is the error for a file whose every data row was rejected: it names the most
+// frequent reasons with their first line and the delimiter the file was read with, the
+// usual cause when every row has the wrong number of fields.
+func (rd *reader) noUsableRows() error {
+	type reason struct {
+		code  Code
+		n     int
+		first Problem
+	}
+	var reasons []*reason
+	by := map[Code]*reason{}
+	for _, p := range rd.ll.Problems {
+		if p.Severity != SeverityError {
+			continue
+		}
+		r := by[p.Code]
+		if r == nil {
+			r = &reason{code: p.Code, first: p}
+			by[p.Code] = r
+			reasons = append(reasons, r)
+		}
+		r.n++
+	}
+	slices.SortStableFunc(reasons, func(a, b *reason) int { return cmp.Compare(b.n, a.n) })
+	var parts []string
+	for i, r := range reasons {
+		if i == 3 {
+			break
+		}
+		parts = append(parts, fmt.Sprintf("%d × %s (first on line %d: %s)", r.n, r.code, r.first.Row, clip(r.first.Message)))
+	}
+	return &FileError{Code: FileNoUsableRows, Err: fmt.Errorf("none of the %d data rows could be used: %s; the file was read with delimiter %s (set input.delimiter in the config if that is wrong)",
+		rd.ll.Rows, strings.Join(parts, "; "), delimName(rd.ll.Delimiter))}
 }

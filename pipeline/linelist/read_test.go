@@ -95,8 +95,8 @@ func TestEveryProblemCode(t *testing.T) {
 	}
 	checkLedger(t, ll)
 	want := []probKey{
-		{4, ColReportDate, CodeBadDate, SeverityWarning},
-		{4, ColImported, CodeBadValue, SeverityWarning},
+		{4, ColReportDate, CodeBadDate, SeverityError},
+		{4, ColImported, CodeBadValue, SeverityError},
 		{5, ColCaseID, CodeMissingID, SeverityError},
 		{6, ColCaseID, CodeDuplicateID, SeverityError},
 		{7, ColOnsetDate, CodeBadDate, SeverityError},
@@ -375,7 +375,7 @@ func TestHugeField(t *testing.T) {
 
 func TestHugeFieldInKeptColumn(t *testing.T) {
 	big := strings.Repeat("7", 10<<20)
-	ll := mustRead(t, "case_id,onset_date\nA,"+big+"\n", Options{})
+	ll := mustRead(t, "case_id,onset_date\nA,"+big+"\nB,2026-01-01\n", Options{})
 	if ll.Rejected != 1 || len(ll.Problems) != 1 || ll.Problems[0].Code != CodeBadDate {
 		t.Fatalf("problems %v", ll.Problems)
 	}
@@ -407,7 +407,7 @@ func TestNULMidFile(t *testing.T) {
 		"B\x00,2026-01-02,x,home\n" +
 		"C,2026-01-03,x,ho\x00me\n"
 	ll := mustRead(t, data, Options{})
-	want := []probKey{{3, ColCaseID, CodeBadValue, SeverityError}, {4, ColSetting, CodeBadValue, SeverityWarning}}
+	want := []probKey{{3, ColCaseID, CodeBadValue, SeverityError}, {4, ColSetting, CodeBadValue, SeverityError}}
 	if fmt.Sprint(keys(ll.Problems)) != fmt.Sprint(want) || fmt.Sprint(caseIDs(ll)) != "[A C]" {
 		t.Fatalf("problems %v cases %v", ll.Problems, caseIDs(ll))
 	}
@@ -424,7 +424,7 @@ func TestInvalidUTF8MidFile(t *testing.T) {
 			"C\xff,2026-01-03,home,A\n" +
 			"D,2026-01-04,home,A\xfe\n"
 		ll := mustRead(t, data, Options{})
-		want := []probKey{{3, ColSetting, CodeBadValue, SeverityWarning}, {4, ColCaseID, CodeBadValue, SeverityError}, {5, ColInfectorID, CodeBadValue, SeverityError}}
+		want := []probKey{{3, ColSetting, CodeBadValue, SeverityError}, {4, ColCaseID, CodeBadValue, SeverityError}, {5, ColInfectorID, CodeBadValue, SeverityError}}
 		if fmt.Sprint(keys(ll.Problems)) != fmt.Sprint(want) {
 			t.Fatalf("problems %v", ll.Problems)
 		}
@@ -463,7 +463,7 @@ func TestDateCells(t *testing.T) {
 		{2, ColOnsetDate, CodeBadDate, SeverityError},
 		{3, ColOnsetDate, CodeBadDate, SeverityError},
 		{4, ColOnsetDate, CodeBadDate, SeverityError},
-		{5, ColReportDate, CodeBadDate, SeverityWarning},
+		{5, ColReportDate, CodeBadDate, SeverityError},
 		{7, ColOnsetDate, CodeBadDate, SeverityError},
 	}
 	if fmt.Sprint(keys(ll.Problems)) != fmt.Sprint(want) {
@@ -524,8 +524,9 @@ func TestHeaderVariants(t *testing.T) {
 			ColAgeGroup: "AGE_GROUP", ColJurisdiction: "JURISDICTION", ColImported: "IMPORTED", ColInfectorID: "INFECTOR_ID"}},
 	}
 	for _, tt := range tests {
-		row := strings.Repeat("x,", strings.Count(tt.header, ","))
-		ll, err := Read(strings.NewReader(tt.header+"\n"+row+"x\n"), Options{})
+		// Every cell a date, so the row is kept whichever column is the onset.
+		row := strings.Repeat("2026-01-01,", strings.Count(tt.header, ","))
+		ll, err := Read(strings.NewReader(tt.header+"\n"+row+"2026-01-01\n"), Options{})
 		if err != nil {
 			t.Fatalf("%s: %v", tt.header, err)
 		}
@@ -604,5 +605,36 @@ func TestByIDSortedAfterDuplicates(t *testing.T) {
 	}
 	if !reflect.DeepEqual(ids, []string{"a", "b", "q"}) || len(ll.Cases) != 3 || ll.Cases[ll.ByID[2]].Onset.String() != "2026-01-01" {
 		t.Fatalf("ByID gives %v over %d cases", ids, len(ll.Cases))
+	}
+}
+
+// A file whose lines end in a carriage return alone is read line by line; a stray CR that
+// runs two rows together is named; a time of day that cannot be one rejects the date; a
+// file whose every row is rejected is unusable, with its reasons and delimiter.
+func TestLineEndsTimesAndUnusableFiles(t *testing.T) {
+	ll := mustRead(t, "case_id,onset_date\rA,2026-01-01\rB,2026-01-02\r", Options{})
+	if fmt.Sprint(caseIDs(ll)) != "[A B]" || !ll.CROnly || ll.Cases[1].Row != 3 {
+		t.Errorf("CR-only file: cases %v, CR only %v", ll.Cases, ll.CROnly)
+	}
+	ll = mustRead(t, "case_id,onset_date\nA,2026-01-01\rB,2026-01-02\nC,2026-01-03\n", Options{})
+	if len(ll.Problems) != 1 || !strings.Contains(ll.Problems[0].Message, "carriage return") {
+		t.Errorf("stray CR: %v", ll.Problems)
+	}
+	ll = mustRead(t, "case_id,onset_date\nA,2026-01-01T25:00\nB,2026-01-01T23:59:60Z\nC,2026-01-01 12:61\nD,2026-01-01T08:00+02:00\n", Options{})
+	if fmt.Sprint(caseIDs(ll)) != "[B D]" || len(ll.Problems) != 2 || !strings.Contains(ll.Problems[0].Message, "impossible time") {
+		t.Errorf("times: cases %v problems %v", caseIDs(ll), ll.Problems)
+	}
+	_, err := Read(strings.NewReader("case_id,onset_date\nA;2026-01-01\nB;2026-01-02\n"), Options{})
+	var fe *FileError
+	if !errors.As(err, &fe) || fe.Code != FileNoUsableRows || !strings.Contains(err.Error(), "2 × field_count") || !strings.Contains(err.Error(), `delimiter ','`) {
+		t.Errorf("every row rejected: %v", err)
+	}
+	for _, bad := range []string{"0001-01-01", "2300-01-01", "2026-13-01", "2026-1-1"} {
+		if _, err := ParseISODay(bad); err == nil {
+			t.Errorf("ParseISODay(%q) accepted", bad)
+		}
+	}
+	if d, err := ParseISODay("2026-11-27"); err != nil || d.String() != "2026-11-27" {
+		t.Errorf("ParseISODay: %v %v", d, err)
 	}
 }
