@@ -32,7 +32,7 @@ var indexPage = template.Must(template.New("index").Parse(`<!DOCTYPE html>
 <h1>Transmission reports by {{.Column}}</h1>
 <p>Analysis date {{.AsOf}} · {{len .Rows}} reports · made by {{.Tool}}</p>
 <table><thead><tr><th>{{.Column}}</th><th>status</th></tr></thead><tbody>
-{{range .Rows}}<tr><td><a href="{{.File}}">{{.Value}}</a></td><td>{{.Status}}</td></tr>
+{{range .Rows}}<tr><td><a href="{{.File}}"><bdi>{{.Value}}</bdi></a></td><td>{{.Status}}</td></tr>
 {{end}}</tbody></table>
 <p class="cw-figure-note">Each report covers the cases of one value; offspring are counted over all of a case's infectees, wherever they live. Decisions rest with the local public-health authority and its guidance.</p>
 </main></body></html>

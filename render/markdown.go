@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	extast "github.com/yuin/goldmark/extension/ast"
 	"html/template"
 	"strconv"
 	"strings"
@@ -74,6 +75,12 @@ func (t *blockTransformer) Transform(doc *ast.Document, reader text.Reader, _ pa
 	_ = ast.Walk(doc, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
 		if f, ok := n.(*ast.FencedCodeBlock); ok && entering && string(f.Language(src)) == blockFence {
 			fences = append(fences, f)
+		}
+		// A table cell holds data: dir="auto" isolates its direction, so a value with
+		// right-to-left text or bidirectional control characters cannot reorder its
+		// neighbours (Unicode Bidirectional Algorithm, UAX #9, isolates).
+		if entering && n.Kind() == extast.KindTableCell {
+			n.SetAttributeString("dir", []byte("auto"))
 		}
 		return ast.WalkContinue, nil
 	})

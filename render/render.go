@@ -103,8 +103,11 @@ func Render(r *analysis.Released, opts Options) ([]byte, error) {
 const StyleFile = "style.css"
 
 // cssForbidden matches what could end the style element or fetch anything: the report must
-// stay self-contained, so a style sheet may not import, load fonts or images by URL.
-var cssForbidden = regexp.MustCompile(`(?i)</style|<!--|<script|@import|url\s*\(|expression\s*\(|\\`)
+// stay self-contained, so a style sheet may not import, declare fonts, or call any function
+// that takes a URL (url, image-set and its prefixed forms, image, cross-fade, element, src,
+// paint) or runs script (expression); a backslash escape, which could spell any of these, is
+// refused as well.
+var cssForbidden = regexp.MustCompile(`(?i)</style|<!--|<script|@import|@font-face|@namespace|(?:url|image-set|image|cross-fade|element|src|paint|expression)\s*\(|\\`)
 
 // loadCSS reads the folder's style sheet. It is the template author's file, placed inline as
 // CSS only after the checks above; the author's Markdown has no such power (raw HTML is dropped).

@@ -104,7 +104,7 @@ func TestHostileDataIsInertText(t *testing.T) {
 		"&lt;/script&gt;&lt;script&gt;alert(2)&lt;/script&gt;",
 		"*emph* _under_ **bold**",
 		"[link](javascript:alert(3))",
-		"<td>a | b | c</td>",
+		"<td dir=\"auto\">a | b | c</td>",
 		"`code` and ```fence",
 		"&quot;double&quot; 'single' &amp; &amp;amp;",
 		"line one # heading - item",
@@ -273,7 +273,7 @@ func TestSuppressionThresholdFromConfig(t *testing.T) {
 	cfg := Config{SuppressBelow: 40}
 	_, html := renderReleased(t, fixtureSummary(), analysis.Policy{SuppressBelow: cfg.SuppressBelow}, Options{Config: &cfg})
 	// The care-home stratum has 32 cases: below 40 it is withheld with its mean.
-	if !strings.Contains(html, "<td>care home</td>\n<td style=\"text-align:right\">withheld</td>\n<td style=\"text-align:right\">withheld</td>") {
+	if !strings.Contains(html, "<td dir=\"auto\">care home</td>\n<td dir=\"auto\" style=\"text-align:right\">withheld</td>\n<td dir=\"auto\" style=\"text-align:right\">withheld</td>") {
 		t.Error("counts below the configured threshold are not withheld")
 	}
 	if strings.Contains(outsideScripts(html), ">32<") {

@@ -5,6 +5,7 @@ import (
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"strings"
 	"testing"
+	"testing/fstest"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
 )
@@ -168,5 +169,42 @@ func TestTables(t *testing.T) {
 	}
 	if _, err := Tables(released(minimalSummary())); err != nil {
 		t.Errorf("minimal summary: %v", err)
+	}
+}
+
+// A style sheet may call no function that fetches (url, image-set in any form, image,
+// cross-fade, element, src, paint), import, declare a font or escape characters; ordinary
+// CSS passes.
+func TestStyleSheetRefusesFetching(t *testing.T) {
+	for _, bad := range []string{
+		`body { background: url(x.png) }`, `a { background-image: image-set("http://x/a.png" 1x) }`,
+		`a { background: -webkit-image-set("x.png" 1x) }`, `a { background: IMAGE( "x.png") }`,
+		`a { background: cross-fade(url(a), url(b)) }`, `a { background: element(#x) }`,
+		`@import "x.css";`, `@font-face { font-family: x; src: local(x) }`, `a { b: u\72l(x) }`,
+		`a { width: expression(alert(1)) }`, `</style><script>`,
+	} {
+		if _, err := loadCSS(fstest.MapFS{StyleFile: {Data: []byte(bad)}}); err == nil {
+			t.Errorf("style sheet %q accepted", bad)
+		}
+	}
+	good := `main { color: #222; background: linear-gradient(#fff, #eee); width: calc(100% - 2em) }`
+	if _, err := loadCSS(fstest.MapFS{StyleFile: {Data: []byte(good)}}); err != nil {
+		t.Errorf("ordinary CSS refused: %v", err)
+	}
+}
+
+// Data values are isolated from the text around them: every table cell has dir="auto", and
+// the index wraps each value in <bdi>, so right-to-left text or bidirectional overrides in
+// a value cannot reorder what stands beside it (UAX #9).
+func TestBidiIsolation(t *testing.T) {
+	s := fixtureSummary()
+	s.Strata[0].Value = "\u202eevil\u202c"
+	html := mustRender(t, s, Options{})
+	if strings.Contains(html, "<td>") || !strings.Contains(html, `<td dir="auto">`+"\u202eevil\u202c") {
+		t.Error("a table cell is not isolated")
+	}
+	idx, err := Index("jurisdiction", []IndexEntry{{Value: "\u202eQuillan", File: "q.html", Report: released(s)}})
+	if err != nil || !strings.Contains(string(idx), "<bdi>\u202eQuillan</bdi>") {
+		t.Errorf("index link not isolated: %v", err)
 	}
 }

@@ -56,15 +56,20 @@ which the reports never show), and writes one report per jurisdiction plus an in
 			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true, ReportDelay: 2}); err != nil {
 				return withCode(exitOutput, err)
 			}
-			if err := os.MkdirAll(out, 0o755); err != nil {
-				return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", out, err))
+			// The line list is read from a scratch folder and written into the batch, beside
+			// the reports it produced.
+			scratch, err := os.MkdirTemp("", "caseweave-demo-")
+			if err != nil {
+				return withCode(exitOutput, err)
 			}
-			list := filepath.Join(out, "vell-estuary-linelist.csv")
-			if err := writeFileAtomic(list, buf.Bytes()); err != nil {
-				return err
+			defer os.RemoveAll(scratch)
+			const listName = "vell-estuary-linelist.csv"
+			list := filepath.Join(scratch, listName)
+			if err := os.WriteFile(list, buf.Bytes(), 0o600); err != nil {
+				return withCode(exitOutput, err)
 			}
-			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), list)
-			rc := newReportCmd(e)
+			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), filepath.Join(out, listName))
+			rc := reportCommand(e, map[string][]byte{listName: buf.Bytes()})
 			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "-o", out, list}
 			if pdf {
 				args = append([]string{"--pdf"}, args...)

@@ -23,6 +23,9 @@ const (
 	exitUsage    = 2
 	exitTemplate = 3
 	exitOutput   = 4
+	// An interrupted write stops cleanly and exits as a shell reports a signal (128 + n).
+	exitInterrupt  = 130 // SIGINT
+	exitTerminated = 143 // SIGTERM
 )
 
 // exitError carries the exit code an error should end the program with.
@@ -53,6 +56,8 @@ func usageErrorf(format string, a ...any) error {
 type env struct {
 	stdout, stderr   io.Writer
 	stderrIsTerminal bool
+	// writeFault, in tests, fails or interrupts the n-th step of writing the outputs.
+	writeFault func(step int) error
 }
 
 // defaultMemoryLimit is the soft heap limit when GOMEMLIMIT is not set: it makes the
@@ -98,6 +103,7 @@ const exitCodesHelp = `Exit codes:
   2  usage error (unknown flag or command, wrong arguments)
   3  template error (the message names the file, line and field)
   4  output error (a file could not be written; any earlier output is left untouched)
+  130, 143  interrupted by SIGINT or SIGTERM while writing; nothing was changed
 `
 
 func newRoot(e env) *cobra.Command {

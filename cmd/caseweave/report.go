@@ -1,8 +1,16 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
+	"unicode"
+	"unicode/utf8"
+
+	"golang.org/x/text/unicode/norm"
+
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/cmd/internal/output"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -31,10 +39,17 @@ type reportFlags struct {
 	templateConfig bool
 	// pseudonyms are the batch's, one per pseudonym key.
 	pseudonyms map[string]*analysis.Pseudonyms
+	// inputPaths are the line lists read; extra are more files for a --by batch's folder
+	// (the demo's line list).
+	inputPaths []string
+	extra      map[string][]byte
 }
 
-func newReportCmd(e env) *cobra.Command {
-	var f reportFlags
+func newReportCmd(e env) *cobra.Command { return reportCommand(e, nil) }
+
+// reportCommand is the report command; extra files go into a --by batch's folder.
+func reportCommand(e env, extra map[string][]byte) *cobra.Command {
+	f := reportFlags{extra: extra}
 	c := &cobra.Command{
 		Use:   "report [flags] LINELIST.csv",
 		Short: "Write the self-contained HTML report (one per jurisdiction with --by)",
@@ -88,6 +103,7 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 			f.config, f.templateConfig = filepath.Join(f.template, render.ConfigFile), true
 		}
 	}
+	f.inputPaths = append(f.inputPaths, path)
 	ld, err := f.load(path)
 	if err != nil {
 		return err
@@ -108,11 +124,13 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 				fallback = templates.Default()
 			}
 		}
-		for _, v := range strataValues(ld.list.Cases, byCol) {
+		values := strataValues(ld.list.Cases, byCol)
+		names := fileNames(values)
+		for _, v := range values {
 			sel := func(cs *linelist.Case) bool { return byCol.Stratum(cs) == v }
 			fsys := fallback
 			if f.template != "" {
-				if sub, ok := valueTemplate(f.template, slug(v)); ok {
+				if sub, ok := valueTemplate(f.template, slugBase(v)); ok {
 					fsys = sub
 				}
 			}
@@ -120,11 +138,11 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 			if err != nil {
 				return fmt.Errorf("%s %q: %w", f.by, v, err)
 			}
+			p.slug = names[v]
 			pages = append(pages, p)
 		}
-		uniqueSlugs(pages)
 	}
-	return f.write(e, pages)
+	return f.write(e, pages, f.extra)
 }
 
 type scoped struct {
@@ -160,7 +178,7 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	if sc != nil {
 		o.Select = sc.sel
 		o.Scope = &analysis.Scope{Column: f.by, Value: sc.value}
-		p.value, p.slug = sc.value, slug(sc.value)
+		p.value = sc.value
 		if rc.Jurisdiction == "" && f.by == linelist.ColJurisdiction {
 			rc.Jurisdiction = sc.value
 		}
@@ -207,97 +225,104 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	return p, nil
 }
 
-// write puts every file of the run in place, each atomically, only after all reports have
-// rendered: a failed run leaves earlier reports untouched.
-func (f *reportFlags) write(e env, pages []page) error {
+// write puts every file of the run in place as one transaction, only after all reports have
+// rendered: a failed or interrupted run leaves earlier output as it was (see output).
+func (f *reportFlags) write(e env, pages []page, extra map[string][]byte) error {
+	var tx output.Transaction
+	var stdout [][]byte
+	toFile := func(path string, data []byte) {
+		switch path {
+		case "":
+		case "-":
+			stdout = append(stdout, data)
+		default:
+			tx.File(path, data)
+		}
+	}
+	var wrote string
 	if f.by == "" {
 		p := pages[0]
 		out := f.out
 		if out == "" {
 			out = "report.html"
 		}
-		if err := writeFileAtomic(out, p.html); err != nil {
-			return err
-		}
+		tx.File(out, p.html)
 		if f.pdf {
-			if err := writeFileAtomic(strings.TrimSuffix(out, filepath.Ext(out))+".pdf", p.pdf); err != nil {
-				return err
-			}
+			tx.File(strings.TrimSuffix(out, filepath.Ext(out))+".pdf", p.pdf)
 		}
-		if err := writeOut(e, f.jsonOut, p.json); err != nil {
-			return err
-		}
-		if err := writeOut(e, f.internalJSON, p.internalJSON); err != nil {
-			return err
-		}
+		toFile(f.jsonOut, p.json)
+		toFile(f.internalJSON, p.internalJSON)
 		if f.tablesDir != "" {
-			if err := writeTables(p.tables, f.tablesDir); err != nil {
-				return err
+			tables := tx.Folder(f.tablesDir)
+			for _, t := range p.tables {
+				tables.Add(t.Name, t.Data)
 			}
 		}
-		fmt.Fprintf(e.stderr, "wrote %s\n", out)
-		return nil
-	}
-	dir := f.out
-	if dir == "" {
-		dir = "reports"
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", dir, err))
-	}
-	var entries []render.IndexEntry
-	for _, p := range pages {
-		for _, file := range []struct {
-			name string
-			data []byte
-			want bool
-		}{{p.slug + ".html", p.html, true}, {p.slug + ".json", p.json, true}, {p.slug + ".pdf", p.pdf, f.pdf}} {
-			if !file.want {
-				continue
-			}
-			if err := writeFileAtomic(filepath.Join(dir, file.name), file.data); err != nil {
-				return err
-			}
+		wrote = out
+	} else {
+		dir := f.out
+		if dir == "" {
+			dir = "reports"
 		}
+		batch := tx.Folder(dir)
+		for name, data := range extra {
+			batch.Add(name, data)
+		}
+		var tables, internal *output.Folder
 		if f.tablesDir != "" {
-			if err := writeTables(p.tables, filepath.Join(f.tablesDir, p.slug)); err != nil {
-				return err
-			}
+			tables = tx.Folder(f.tablesDir)
 		}
 		if f.internalJSON != "" {
-			if err := os.MkdirAll(f.internalJSON, 0o700); err != nil {
-				return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", f.internalJSON, err))
-			}
-			if err := writeFileAtomic(filepath.Join(f.internalJSON, p.slug+".json"), p.internalJSON); err != nil {
-				return err
-			}
+			internal = tx.Folder(f.internalJSON)
+			internal.Private = true
 		}
-		entries = append(entries, render.IndexEntry{Value: p.value, File: p.slug + ".html", Report: p.released})
+		var entries []render.IndexEntry
+		for _, p := range pages {
+			batch.Add(p.slug+".html", p.html)
+			batch.Add(p.slug+".json", p.json)
+			if f.pdf {
+				batch.Add(p.slug+".pdf", p.pdf)
+			}
+			for _, t := range p.tables {
+				tables.Add(p.slug+"/"+t.Name, t.Data)
+			}
+			if internal != nil {
+				internal.Add(p.slug+".json", p.internalJSON)
+			}
+			entries = append(entries, render.IndexEntry{Value: p.value, File: p.slug + ".html", Report: p.released})
+		}
+		idx, err := render.Index(f.by, entries)
+		if err != nil {
+			return withCode(exitOutput, err)
+		}
+		batch.Add("index.html", idx)
+		if f.jsonOut != "" {
+			fmt.Fprintln(e.stderr, "note: with --by, each value's summary is written as <slug>.json beside its report; --json is ignored")
+		}
+		wrote = fmt.Sprintf("%d reports and index.html to %s", len(pages), dir)
 	}
-	idx, err := render.Index(f.by, entries)
-	if err != nil {
-		return withCode(exitOutput, err)
-	}
-	if err := writeFileAtomic(filepath.Join(dir, "index.html"), idx); err != nil {
+	if err := refuseOverwrites(&tx, f.inputs()); err != nil {
 		return err
 	}
-	if f.jsonOut != "" {
-		fmt.Fprintln(e.stderr, "note: with --by, each value's summary is written as <slug>.json beside its report; --json is ignored")
+	if err := commit(e, &tx); err != nil {
+		return err
 	}
-	fmt.Fprintf(e.stderr, "wrote %d reports and index.html to %s\n", len(pages), dir)
+	for _, b := range stdout {
+		if _, err := e.stdout.Write(b); err != nil {
+			return withCode(exitOutput, err)
+		}
+	}
+	fmt.Fprintf(e.stderr, "wrote %s\n", wrote)
 	return nil
 }
 
-func writeTables(tables []render.TableFile, dir string) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return withCode(exitOutput, fmt.Errorf("cannot create %s: %w", dir, err))
+// inputs are the files this run reads, which no output may replace.
+func (f *reportFlags) inputs() []string {
+	in := append([]string(nil), f.inputPaths...)
+	if f.config != "" {
+		in = append(in, f.config)
 	}
-	for _, t := range tables {
-		if err := writeFileAtomic(filepath.Join(dir, t.Name), t.Data); err != nil {
-			return err
-		}
-	}
-	return nil
+	return in
 }
 
 // policy is the disclosure policy of a report under config rc: its threshold, and the
@@ -377,14 +402,25 @@ func strataValues(cases []linelist.Case, col linelist.Column) []string {
 	return vs
 }
 
-// slug makes a file name from a value: lower-case ASCII letters and digits, other runs of
-// characters as one hyphen.
-func slug(v string) string {
+// maxSlugBytes bounds the part of a file name taken from a value, so that name.html and its
+// staging copy stay well under the 255 bytes file systems allow.
+const maxSlugBytes = 64
+
+// reservedSlugs are names a value may not take: the batch's own index, and the device names
+// Windows keeps, so that a batch can be copied there.
+var reservedSlugs = map[string]bool{"index": true, "con": true, "prn": true, "aux": true, "nul": true,
+	"com1": true, "com2": true, "com3": true, "com4": true, "com5": true, "com6": true, "com7": true, "com8": true, "com9": true,
+	"lpt1": true, "lpt2": true, "lpt3": true, "lpt4": true, "lpt5": true, "lpt6": true, "lpt7": true, "lpt8": true, "lpt9": true}
+
+// slugBase makes a file name from a value: Unicode-normalised (NFC) and lower-cased, with
+// its letters, marks and digits of any script and every other run of characters as one
+// hyphen; "not-recorded" for a value with none.
+func slugBase(v string) string {
 	var b strings.Builder
 	dash := false
-	for _, r := range strings.ToLower(v) {
+	for _, r := range norm.NFC.String(strings.ToLower(v)) {
 		switch {
-		case r >= 'a' && r <= 'z' || r >= '0' && r <= '9':
+		case unicode.IsLetter(r) || unicode.IsDigit(r) || unicode.IsMark(r):
 			b.WriteRune(r)
 			dash = false
 		case !dash && b.Len() > 0:
@@ -396,20 +432,66 @@ func slug(v string) string {
 	if s == "" {
 		s = "not-recorded"
 	}
-	if s == "index" {
-		s = "index-value"
-	}
 	return s
 }
 
-// uniqueSlugs appends -2, -3, … to slugs that two values share.
-func uniqueSlugs(pages []page) {
-	seen := map[string]int{}
-	for i := range pages {
-		s := pages[i].slug
-		seen[s]++
-		if n := seen[s]; n > 1 {
-			pages[i].slug = fmt.Sprintf("%s-%d", s, n)
+// cutUTF8 cuts s to at most n bytes at a character boundary.
+func cutUTF8(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	for n > 0 && !utf8.RuneStart(s[n]) {
+		n--
+	}
+	return strings.TrimSuffix(s[:n], "-")
+}
+
+// fileNames gives every value of a batch its own file name, unique by construction: the
+// value's slug, and, where the slug was cut to length, is reserved or would be shared with
+// another value (letter case, punctuation, a value that spells another's name), the slug
+// followed by a short hash of the whole value, lengthened until no two names are alike.
+func fileNames(values []string) map[string]string {
+	hash := func(v string, n int) string {
+		h := sha256.Sum256([]byte(v))
+		return hex.EncodeToString(h[:])[:n]
+	}
+	base := map[string]string{}
+	count := map[string]int{}
+	for _, v := range values {
+		b := slugBase(v)
+		base[v] = b
+		count[b]++
+	}
+	names := map[string]string{}
+	hashed := map[string]int{} // hash length of the values that need one
+	for _, v := range values {
+		b := base[v]
+		if len(b) > maxSlugBytes || count[b] > 1 || reservedSlugs[b] {
+			hashed[v] = 8
+		}
+	}
+	for {
+		seen := map[string][]string{}
+		for _, v := range values {
+			n := base[v]
+			if l, ok := hashed[v]; ok {
+				n = cutUTF8(n, max(0, maxSlugBytes-l-1)) + "-" + hash(v, l)
+			}
+			names[v] = n
+			seen[n] = append(seen[n], v)
+		}
+		clash := false
+		for _, vs := range seen {
+			if len(vs) < 2 {
+				continue
+			}
+			clash = true
+			for _, v := range vs {
+				hashed[v] = min(max(hashed[v], 8)+4, 32) // 32 hex digits are 128 bits
+			}
+		}
+		if !clash {
+			return names
 		}
 	}
 }

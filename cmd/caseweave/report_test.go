@@ -186,7 +186,7 @@ func TestReportByJurisdictionDeterministic(t *testing.T) {
 		}
 		outs = append(outs, out)
 	}
-	want := []string{"harbour-row.html", "harbour-row.json", "index.html", "saltmarsh.html", "saltmarsh.json", "upper-fenn.html", "upper-fenn.json"}
+	want := []string{".caseweave-batch", "harbour-row.html", "harbour-row.json", "index.html", "saltmarsh.html", "saltmarsh.json", "upper-fenn.html", "upper-fenn.json"}
 	for _, name := range want {
 		a, err := os.ReadFile(filepath.Join(outs[0], name))
 		if err != nil {
