@@ -46,8 +46,8 @@ type Folder struct {
 	Dir string
 	// Private makes the folder readable by its owner only (case-level data).
 	Private bool
-	names []string
-	data  map[string][]byte
+	names   []string
+	data    map[string][]byte
 }
 
 type stagedFile struct {
