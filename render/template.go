@@ -94,7 +94,11 @@ func parseFolder(fsys fs.FS, funcs template.FuncMap) (*template.Template, error)
 			return err
 		}
 		if _, err := set.New(p).Parse(string(src)); err != nil {
-			return asTemplateError(err, p)
+			te := asTemplateError(err, p)
+			if kw, line, ok := unclosedAction(string(src)); ok && strings.Contains(err.Error(), "unexpected EOF") {
+				return &TemplateError{File: p, Line: line, Err: fmt.Errorf("the {{ %s }} opened on line %d has no {{ end }}", kw, line)}
+			}
+			return te
 		}
 		if p == MainTemplate {
 			found = true
@@ -151,3 +155,47 @@ func rewriteOutputs(n parse.Node) {
 
 // errorf is a template-function error; text/template adds the file and line.
 func errorf(format string, args ...any) error { return fmt.Errorf(format, args...) }
+
+// unclosedAction finds the innermost block action (if, range, with, define, block) of a
+// template's source that has no matching end, with the line it opened on: text/template
+// reports such a template only as "unexpected EOF", at the last line.
+func unclosedAction(src string) (keyword string, line int, ok bool) {
+	type open struct {
+		kw   string
+		line int
+	}
+	var stack []open
+	for i := 0; ; {
+		j := strings.Index(src[i:], "{{")
+		if j < 0 {
+			break
+		}
+		start := i + j
+		k := strings.Index(src[start+2:], "}}")
+		if k < 0 {
+			break
+		}
+		body := strings.TrimSpace(strings.TrimPrefix(strings.TrimSpace(src[start+2:start+2+k]), "-"))
+		i = start + 2 + k + 2
+		if strings.HasPrefix(body, "/*") {
+			continue
+		}
+		word := body
+		if f := strings.Fields(body); len(f) > 0 {
+			word = f[0]
+		}
+		switch word {
+		case "if", "range", "with", "define", "block":
+			stack = append(stack, open{word, 1 + strings.Count(src[:start], "\n")})
+		case "end":
+			if len(stack) > 0 {
+				stack = stack[:len(stack)-1]
+			}
+		}
+	}
+	if len(stack) == 0 {
+		return "", 0, false
+	}
+	top := stack[len(stack)-1]
+	return top.kw, top.line, true
+}

@@ -27,7 +27,7 @@ when it cannot; with --strict any error-severity problem also exits 1.`,
 				return err
 			}
 			s := analysis.CheckSummary(ld.path, ld.list, ld.forest, ld.asOf)
-			printCheck(e.stdout, s)
+			printCheck(in.textOut(e), s)
 			if err := in.writeJSONs(e, s, func(r *analysis.Released) any { return checkJSON(r.Summary()) }, checkJSON); err != nil {
 				return err
 			}

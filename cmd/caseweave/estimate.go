@@ -34,6 +34,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	f.inputFlags.register(c)
 	fl := c.Flags()
 	fl.IntVar(&f.censorDays, "censor-days", -1, "leave out of offspring estimation cases with onset fewer than N days before the analysis date (default: the serial interval's 95th percentile, or 14; 0 disables)")
+	fl.Lookup("censor-days").DefValue = "0" // the default is described above; -1 only marks "not given"
 	fl.IntVar(&f.replicates, "bootstrap", analysis.DefaultReplicates, "bootstrap replicates")
 	fl.Uint64Var(&f.seed, "seed", 1, "random seed: the same input, seed and --as-of give identical output")
 	fl.Float64Var(&f.level, "level", 0.95, "confidence level of the intervals")
@@ -143,7 +144,7 @@ from cluster sizes alone; and projects the next generations.`,
 			if err != nil {
 				return err
 			}
-			printEstimate(e.stdout, s)
+			printEstimate(f.textOut(e), s)
 			return f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s })
 		},
 	}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"io"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -97,4 +98,14 @@ func (f *inputFlags) writeJSONs(e env, s *analysis.Summary, view func(*analysis.
 		return writeJSON(e, f.internalJSON, full(s))
 	}
 	return nil
+}
+
+// textOut is where a command prints its text summary: standard output, unless a JSON
+// document goes there (--json - or --internal-json -), when the text goes to standard error
+// so that standard output parses as JSON.
+func (f *inputFlags) textOut(e env) io.Writer {
+	if f.jsonOut == "-" || f.internalJSON == "-" {
+		return e.stderr
+	}
+	return e.stdout
 }

@@ -82,7 +82,7 @@ func TestCheckJSONEveryProblemCode(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	js := stdout[strings.Index(stdout, "{"):]
+	js := stdout
 	var doc struct {
 		Input    map[string]any   `json:"input"`
 		Problems []map[string]any `json:"problems"`
@@ -175,7 +175,7 @@ func TestOutlookUsage(t *testing.T) {
 		t.Fatal(code)
 	}
 	var doc map[string]any
-	if err := json.Unmarshal([]byte(stdout[strings.Index(stdout, "{"):]), &doc); err != nil {
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
 		t.Fatal(err)
 	}
 	for _, k := range []string{"model", "mean", "extinction_probability", "major_outbreak_probability",
@@ -206,7 +206,7 @@ func TestOutlookJSONModel(t *testing.T) {
 		var doc struct {
 			Model map[string]any `json:"model"`
 		}
-		if err := json.Unmarshal([]byte(stdout[strings.Index(stdout, "{"):]), &doc); err != nil {
+		if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
 			t.Fatal(err)
 		}
 		if doc.Model["name"] != c.name || doc.Model["k"] != c.k {

@@ -49,7 +49,11 @@ cases responsible for --share of transmission, and the superspreading threshold.
 			if err != nil {
 				return withCode(exitInput, err)
 			}
-			printOutlook(e.stdout, res)
+			text := e.stdout
+			if jsonOut == "-" {
+				text = e.stderr // standard output carries the JSON alone
+			}
+			printOutlook(text, res)
 			if jsonOut != "" {
 				return writeJSON(e, jsonOut, newOutlookJSON(res))
 			}

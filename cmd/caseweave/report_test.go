@@ -40,7 +40,7 @@ func TestEstimateJSONSchema(t *testing.T) {
 		t.Fatal(stderr)
 	}
 	var doc map[string]any
-	if err := json.Unmarshal([]byte(stdout[strings.Index(stdout, "\n{")+1:]), &doc); err != nil {
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil { // --json - writes JSON alone
 		t.Fatal(err)
 	}
 	hasKeys(t, "summary", doc, "input", "tree", "offspring", "outlook", "as_of", "seed", "tool")
