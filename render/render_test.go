@@ -192,7 +192,7 @@ func TestTemplateErrorsNameFileLineAndField(t *testing.T) {
 		field, msgContain string
 	}{
 		{"unknown field", folder("# T\n\n{{ .Offspring.Rr }}\n", nil), "report.md", 3, ".Offspring.Rr", "Rr"},
-		{"parse error in a partial", folder("{{ partial \"partials/a.md\" . }}", map[string]string{"partials/a.md": "ok\n{{ if .AsOf }}\n"}), "partials/a.md", 3, "", "unexpected EOF"},
+		{"parse error in a partial", folder("{{ partial \"partials/a.md\" . }}", map[string]string{"partials/a.md": "ok\n{{ if .AsOf }}\n"}), "partials/a.md", 2, "", "{{ if }} opened on line 2 has no {{ end }}"},
 		{"exec error in a partial", folder("x\n{{ partial \"partials/a.md\" . }}", map[string]string{"partials/a.md": "\n\n{{ .Nope }}"}), "partials/a.md", 3, ".Nope", "Nope"},
 		{"unknown function", folder("{{ sh \"ls\" }}", nil), "report.md", 1, "", "not defined"},
 		{"unknown chart", folder("a\n{{ chart \"pie\" }}", nil), "report.md", 2, `chart "pie"`, "unknown chart"},
