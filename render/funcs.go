@@ -30,6 +30,11 @@ func (st *renderState) funcs() template.FuncMap {
 		"est":      func(e analysis.Estimate, digits int) (mdText, error) { return st.fnEst(e, digits, false) },
 		"estpct":   func(e analysis.Estimate, digits int) (mdText, error) { return st.fnEst(e, digits, true) },
 		"interval": st.fnInterval,
+		"estimate": func(e, lo, hi *float64) analysis.Estimate {
+			return analysis.Estimate{Estimate: e, Percentile: [2]*float64{lo, hi}, BCa: [2]*float64{lo, hi}}
+		},
+		"verdict": fnVerdict,
+		"trend":   fnTrend,
 		"count":    st.fnCount,
 		"day":      fnDay,
 		"isoday":   func(d linelist.Day) mdText { return mdText(escapeMarkdown(d.String())) },
@@ -375,4 +380,42 @@ func (st *renderState) threshold() int {
 		return t
 	}
 	return analysis.DefaultSuppressBelow
+}
+
+// fnVerdict says in a sentence what a verdict on R means for growth.
+func fnVerdict(v analysis.Verdict) mdText {
+	var out string
+	switch v.Kind {
+	case analysis.VerdictGrowing:
+		out = "Transmission is growing: " + v.Reason + "."
+	case analysis.VerdictShrinking:
+		out = "Transmission is shrinking: " + v.Reason + "."
+	default:
+		out = "It cannot yet be said whether transmission is growing or shrinking: " + v.Reason + "."
+	}
+	return mdText(escapeMarkdown(out))
+}
+
+// fnTrend says how the last complete week compares with the week before.
+func fnTrend(t *analysis.Trend) mdText {
+	if t == nil {
+		return ""
+	}
+	if t.Count == nil || t.PreviousCount == nil {
+		return mdText(escapeMarkdown("Too few cases were reported in the last two complete weeks to compare them."))
+	}
+	out := fmt.Sprintf("%s cases had onset in the week of %s, against %s the week before", formatNumber(float64(*t.Count), 0), dayText(t.Week), formatNumber(float64(*t.PreviousCount), 0))
+	p := ""
+	if t.PValue != nil {
+		p = " (p = " + formatNumber(*t.PValue, 2) + ")"
+	}
+	switch t.Kind {
+	case "rising":
+		out += ": a rise larger than chance alone would explain" + p + "."
+	case "falling":
+		out += ": a fall larger than chance alone would explain" + p + "."
+	default:
+		out += ": a difference within what chance alone gives" + p + "."
+	}
+	return mdText(escapeMarkdown(out))
 }

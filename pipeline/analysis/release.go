@@ -114,6 +114,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 		st.Counted = nil
 	}
 	releaseWeeks(c)
+	releaseTrend(c)
 	coarsenTrees(c, thr)
 	return &Released{s: c}, nil
 }
@@ -192,6 +193,21 @@ func coarsenTrees(c *Summary, thr int) {
 			if !common[label(n.Setting)] {
 				n.Setting = ""
 			}
+		}
+	}
+}
+
+// releaseTrend withholds the week-on-week comparison when the epidemic curve withholds
+// either of its weeks: its counts, and its p-value, would give them away.
+func releaseTrend(c *Summary) {
+	if c.Assessment == nil || c.Assessment.Trend == nil || c.EpiCurve == nil {
+		return
+	}
+	t := c.Assessment.Trend
+	for k, w := range c.EpiCurve.Weeks {
+		if (w == t.Week || w == t.Previous) && c.EpiCurve.Total[k] == nil {
+			t.Count, t.PreviousCount, t.PValue, t.Kind = nil, nil, nil, "withheld"
+			return
 		}
 	}
 }

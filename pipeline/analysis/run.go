@@ -166,6 +166,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.endOfOutbreak()
 	a.weekly()
 	a.epiCurve()
+	a.assess()
 	a.clusters()
 	a.ageMixing()
 	a.strata()
@@ -189,6 +190,16 @@ type run struct {
 	infer    *timing.Infectors // nil unless missing infectors are inferred
 	expected []float64         // expected inferred offspring per case
 	counts   []int32           // the offspring counts the estimates use
+	weekSums []weekSum         // offspring of the cases of each onset week, in week order
+	weekK    float64           // the dispersion behind the weekly intervals
+}
+
+// weekSum is one onset week's cases and the offspring they caused.
+type weekSum struct {
+	start    linelist.Day
+	n        int
+	sum      float64
+	censored bool
 }
 
 func (a *run) note(format string, args ...any) {
@@ -686,7 +697,19 @@ func (a *run) weekly() {
 		a.note("No weekly R: %v.", err)
 		return
 	}
+	a.weekK = k
+	if k == 0 {
+		a.weekK = res.K
+		if res.PoissonLimit {
+			a.weekK = math.Inf(1)
+		}
+	}
+	sums := map[linelist.Day]float64{}
+	for i, t := range onsets {
+		sums[t.ISOWeekStart()] += off[i]
+	}
 	for _, w := range res.Weeks {
+		a.weekSums = append(a.weekSums, weekSum{start: w.WeekStart, n: w.Cases, sum: sums[w.WeekStart], censored: w.Censored})
 		a.s.TimeVarying = append(a.s.TimeVarying, WeekR{
 			WeekStart: w.WeekStart, Cases: count(w.Cases), R: numeric.FinitePtr(w.R), Lower: numeric.FinitePtr(w.Lower), Upper: numeric.FinitePtr(w.Upper), Censored: w.Censored,
 		})

@@ -27,6 +27,7 @@ type Summary struct {
 	TimeVarying    []WeekR         `json:"time_varying,omitempty"`
 	InferredLinks  *InferredLinks  `json:"inferred_links,omitempty"`
 	EndOfOutbreak  *EndOfOutbreak  `json:"end_of_outbreak,omitempty"`
+	Assessment     *Assessment     `json:"assessment,omitempty"`
 
 	EpiCurve  *EpiCurve  `json:"epi_curve,omitempty"`
 	Clusters  *Clusters  `json:"clusters,omitempty"`
