@@ -135,7 +135,8 @@ func csvCounts(t *testing.T, path string, columns ...string) []float64 {
 // tooltips, the JSON beside it, its --tables CSVs — give away no stratified count below the
 // threshold, directly or by subtraction (analysis.CheckDisclosure against the internal JSON
 // is the oracle), and show no exact onset date of a case of its largest chain. Dates allowed,
-// being aggregates: the analysis date, week starts (epidemic curve, weekly R, drawn chains),
+// being aggregates: the analysis date and the censoring cutoff before it, week starts and
+// ends (epidemic curve, weekly R, drawn chains, the recent R),
 // the end-of-outbreak dates (curve, 95% and 99% dates, last onset in the jurisdiction, rule of
 // thumb). The check is shown to catch a leak planted in a released JSON.
 func TestBatchOutputsGiveNothingAway(t *testing.T) {
@@ -193,8 +194,10 @@ func TestBatchOutputsGiveNothingAway(t *testing.T) {
 			if e := rel.EpiCurve; e != nil {
 				for _, w := range e.Weeks {
 					allowed[w.String()] = true
+					allowed[(w + 6).String()] = true // the week's Sunday
 				}
 			}
+			allowed[(rel.AsOf - linelist.Day(rel.Settings.CensorDays)).String()] = true // the censoring cutoff
 			if e := rel.EndOfOutbreak; e != nil {
 				allowed[e.LastOnset.String()] = true
 				for _, p := range e.Curve {

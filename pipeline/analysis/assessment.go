@@ -61,8 +61,9 @@ func fmtR(x float64) string { return fmt.Sprintf("%.2f", x) }
 
 // Assessment is the summary's reading of where transmission stands.
 type Assessment struct {
-	// Overall reads the whole-period R (Offspring.R): cases with onset From to To, outside
-	// the censoring window.
+	// Overall reads the whole-period R (Offspring.R): the cases with onset from the week of
+	// OverallFrom (a Monday) to OverallTo, the last day outside the censoring window. Both are
+	// aggregates, never a case's own onset date.
 	Overall     Verdict      `json:"overall"`
 	OverallFrom linelist.Day `json:"overall_from"`
 	OverallTo   linelist.Day `json:"overall_to"`
@@ -127,7 +128,8 @@ func (a *run) assess() {
 	as := &Assessment{Headline: "overall"}
 	if o := s.Offspring; o != nil {
 		as.Overall = ReadR(o.R, a.headlineBounds(o.R), o.N)
-		as.OverallFrom, as.OverallTo = a.countedSpan()
+		first, _ := a.countedSpan()
+		as.OverallFrom, as.OverallTo = first.ISOWeekStart(), a.o.AsOf-linelist.Day(a.w)
 	}
 	if len(a.weekSums) > 0 {
 		var n int
