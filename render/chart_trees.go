@@ -38,9 +38,19 @@ func (st *renderState) chartTrees(c *analysis.Clusters) ([]chartSpec, string, er
 			if n.Setting != "" {
 				val += ", " + n.Setting
 			}
+			if n.Elsewhere {
+				val += ", lives elsewhere"
+			}
 			nodes[i] = &opts.TreeData{Name: n.ID, Value: val, SymbolSize: round(size, 1)}
-			if i == 0 {
+			switch {
+			case i == 0:
 				nodes[i].ItemStyle = &opts.ItemStyle{Color: colAccent, BorderColor: colAccent}
+			case n.Elsewhere:
+				// A case of another jurisdiction is drawn hollow.
+				nodes[i].ItemStyle = &opts.ItemStyle{Color: "#ffffff", BorderColor: colMuted, BorderWidth: 1.5}
+			}
+			if i == 0 && n.Elsewhere {
+				nodes[i].ItemStyle = &opts.ItemStyle{Color: "#ffffff", BorderColor: colAccent, BorderWidth: 2}
 			}
 		}
 		for i, n := range tv.Nodes {
@@ -74,6 +84,9 @@ func (st *renderState) chartTrees(c *analysis.Clusters) ([]chartSpec, string, er
 		}
 		caption := fmt.Sprintf("%d cases over %d generations, first onset in week %s. Each dot is a case, each line an infection; larger dots infected more people; the red dot is the first case.",
 			tv.Size, tv.Depth, weekText(tv.Start))
+		if tv.Local < tv.Size {
+			caption += fmt.Sprintf(" %d of its cases live here; hollow dots are the %d that live elsewhere.", tv.Local, tv.Size-tv.Local)
+		}
 		if tv.Hidden > 0 {
 			caption += fmt.Sprintf(" %d cases are not drawn, to keep the chart readable.", tv.Hidden)
 		}

@@ -76,6 +76,9 @@ func status(s *analysis.Summary) string {
 		return ""
 	}
 	line := fmt.Sprintf("%d cases", s.Tree.Cases)
+	if s.Tree.CrossingChains > 0 {
+		line += fmt.Sprintf(" (%d chains reach elsewhere)", s.Tree.CrossingChains)
+	}
 	if o := s.Offspring; o != nil && o.R.Estimate != nil {
 		line += fmt.Sprintf("; R %.2f", *o.R.Estimate)
 		iv := o.R.Percentile

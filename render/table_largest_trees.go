@@ -7,10 +7,10 @@ func tableLargestTrees(st *renderState, f cellFmt) (t table, ok bool, err error)
 	if s.Clusters == nil || len(s.Clusters.Largest) == 0 {
 		return t, false, nil
 	}
-	t.Header = []string{"First case", "Cases", "Generations", "First onset week", "Cases not drawn"}
-	t.Numeric = []bool{false, true, true, false, true}
+	t.Header = []string{"First case", "Cases here", "Cases in the chain", "Generations", "First onset week", "Cases not drawn"}
+	t.Numeric = []bool{false, true, true, true, false, true}
 	for _, tr := range s.Clusters.Largest {
-		t.Rows = append(t.Rows, []string{tr.Root, f.int(tr.Size), f.int(tr.Depth), weekText(tr.Start), f.int(tr.Hidden)})
+		t.Rows = append(t.Rows, []string{tr.Root, f.int(tr.Local), f.int(tr.Size), f.int(tr.Depth), weekText(tr.Start), f.int(tr.Hidden)})
 	}
 	return t, true, nil
 }

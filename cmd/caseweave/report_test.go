@@ -294,3 +294,53 @@ func TestTemplateSymlinkCannotEscape(t *testing.T) {
 		t.Errorf("the error should name the partial: %s", stderr)
 	}
 }
+
+// In a batch, a chain belongs to the report of every jurisdiction it touches, with its whole
+// size: each report's chain-size table adds up to its own cases plus the cases its chains
+// hold elsewhere, the largest chains count their local cases apart, the reports' case counts
+// add up to the line list's, and one case has one label in every report.
+func TestBatchChainCountsAgree(t *testing.T) {
+	dir := t.TempDir()
+	if code, _, stderr := cli(t, "demo", "-o", dir); code != 0 {
+		t.Fatal(stderr)
+	}
+	total, used := 0, 0
+	sums, _ := filepath.Glob(filepath.Join(dir, "*.json"))
+	byRoot := map[string]int{}
+	for _, p := range sums {
+		s := readSummary(t, p)
+		used = s.Input.Used
+		total += s.Tree.Cases
+		n := 0
+		for _, sc := range s.Clusters.SizeHistogram {
+			n += sc.Size * sc.Count
+		}
+		if n != s.Tree.Cases+s.Tree.CasesElsewhere {
+			t.Errorf("%s: chain sizes add up to %d, want %d here + %d elsewhere", filepath.Base(p), n, s.Tree.Cases, s.Tree.CasesElsewhere)
+		}
+		for _, tv := range s.Clusters.Largest {
+			local := 0
+			for _, nd := range tv.Nodes {
+				if !nd.Elsewhere {
+					local++
+				}
+			}
+			if tv.Local > tv.Size || (tv.Hidden == 0 && local != tv.Local) {
+				t.Errorf("%s: chain %s has %d local of %d, %d drawn local", filepath.Base(p), tv.Root, tv.Local, tv.Size, local)
+			}
+			byRoot[tv.Root+fmt.Sprint(tv.Size)]++
+		}
+	}
+	if total != used {
+		t.Errorf("the reports count %d cases, the line list %d", total, used)
+	}
+	shared := 0
+	for _, n := range byRoot {
+		if n > 1 {
+			shared++
+		}
+	}
+	if shared == 0 {
+		t.Error("no chain appears, under one label, in two reports of the demo")
+	}
+}

@@ -93,14 +93,14 @@ func sortedByTotal(m map[string][]int) []string {
 // largest trees, capped so the report stays small.
 func (a *run) clusters() {
 	sizes := map[int]*SizeCount{}
-	var roots []forest.Cluster
+	var roots []int // cluster indices
 	n := 0
-	for _, c := range a.f.Clusters {
-		if !a.inScope[c.Root] {
+	for ci, c := range a.f.Clusters {
+		if !a.touches(ci) {
 			continue
 		}
 		n++
-		roots = append(roots, c)
+		roots = append(roots, ci)
 		sc := sizes[c.Size]
 		if sc == nil {
 			sc = &SizeCount{Size: c.Size}
@@ -140,23 +140,25 @@ func (a *run) clusters() {
 	}
 	sort.Slice(cl.SizeHistogram, func(i, j int) bool { return cl.SizeHistogram[i].Size < cl.SizeHistogram[j].Size })
 	sort.SliceStable(roots, func(i, j int) bool {
-		if roots[i].Size != roots[j].Size {
-			return roots[i].Size > roots[j].Size
+		ci, cj := a.f.Clusters[roots[i]], a.f.Clusters[roots[j]]
+		if ci.Size != cj.Size {
+			return ci.Size > cj.Size
 		}
-		return roots[i].Root < roots[j].Root
+		return ci.Root < cj.Root
 	})
-	for _, c := range roots {
-		if len(cl.Largest) == treesShown || c.Size < 2 {
+	for _, ci := range roots {
+		if len(cl.Largest) == treesShown || a.f.Clusters[ci].Size < 2 {
 			break
 		}
-		cl.Largest = append(cl.Largest, a.treeView(c))
+		cl.Largest = append(cl.Largest, a.treeView(ci))
 	}
 	a.s.Clusters = cl
 }
 
 // treeView lays out one tree breadth-first, keeping the first nodesPerTree cases.
-func (a *run) treeView(c forest.Cluster) TreeView {
-	tv := TreeView{Root: a.cases[c.Root].ID, Size: c.Size, Depth: c.Depth, Start: a.cases[c.Root].Onset}
+func (a *run) treeView(ci int) TreeView {
+	c := a.f.Clusters[ci]
+	tv := TreeView{Root: a.cases[c.Root].ID, Size: c.Size, Local: a.local[ci], Depth: c.Depth, Start: a.cases[c.Root].Onset}
 	type item struct{ v, parent int32 }
 	queue := []item{{c.Root, -1}}
 	for head := 0; head < len(queue) && len(tv.Nodes) < nodesPerTree; head++ {
@@ -165,6 +167,7 @@ func (a *run) treeView(c forest.Cluster) TreeView {
 		tv.Nodes = append(tv.Nodes, TreeNode{
 			ID: cs.ID, Parent: int(it.parent), Generation: int(a.f.Generation[it.v]),
 			Offspring: int(a.f.Offspring[it.v]), Onset: cs.Onset, Setting: cs.Setting,
+			Elsewhere: !a.inScope[it.v],
 		})
 		me := int32(len(tv.Nodes) - 1)
 		for _, ch := range a.f.Children(int(it.v)) {

@@ -182,6 +182,7 @@ type run struct {
 
 	selected []int32 // indices of the cases in scope
 	inScope  []bool
+	local    []int                 // local[c]: the cases of cluster c in scope
 	w        int                   // censoring window, days
 	serial   timing.SerialInterval // nil when none
 	family   offspring.Family      // the family behind the intervals and the outlook
@@ -208,16 +209,23 @@ func (a *run) note(format string, args ...any) {
 
 func (a *run) selectCases() {
 	a.inScope = make([]bool, len(a.cases))
+	a.local = make([]int, len(a.f.Clusters))
 	for i := range a.cases {
 		if a.o.Select == nil || a.o.Select(&a.cases[i]) {
 			a.inScope[i] = true
 			a.selected = append(a.selected, int32(i))
+			a.local[a.f.Cluster[i]]++
 		}
 	}
 }
 
+// touches reports whether cluster ci holds a case in scope: a chain belongs to the report of
+// every jurisdiction (or other --by value) it touches, with its whole size.
+func (a *run) touches(ci int) bool { return a.local[ci] > 0 }
+
 // scopedTree is TreeStats restricted to the selected cases; a tree belongs to the scope of
-// its root.
+// every value it touches, and the chains that reach beyond it are counted with the cases they
+// hold elsewhere.
 func (a *run) scopedTree() Tree {
 	t := Tree{Cases: len(a.selected)}
 	for _, i := range a.selected {
@@ -230,13 +238,17 @@ func (a *run) scopedTree() Tree {
 			t.Imported++
 		}
 	}
-	for _, c := range a.f.Clusters {
-		if !a.inScope[c.Root] {
+	for ci, c := range a.f.Clusters {
+		if !a.touches(ci) {
 			continue
 		}
 		t.Clusters++
 		t.LargestCluster = max(t.LargestCluster, c.Size)
 		t.MaxGeneration = max(t.MaxGeneration, c.Depth)
+		if elsewhere := c.Size - a.local[ci]; elsewhere > 0 {
+			t.CrossingChains++
+			t.CasesElsewhere += elsewhere
+		}
 	}
 	return t
 }
@@ -502,8 +514,8 @@ func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimat
 
 func (a *run) chainSizeFit() *ChainSizeFit {
 	var obs []branching.ChainObservation
-	for _, c := range a.f.Clusters {
-		if !a.inScope[c.Root] {
+	for ci, c := range a.f.Clusters {
+		if !a.touches(ci) {
 			continue
 		}
 		obs = append(obs, branching.ChainObservation{Size: c.Size, Censored: int(a.o.AsOf-c.LastOnset) < a.w})

@@ -101,6 +101,11 @@ type Tree struct {
 	LargestCluster int `json:"largest_cluster"`
 	MaxGeneration  int `json:"max_generation"`
 	Imported       int `json:"imported"`
+	// CrossingChains counts the chains of a scoped report (--by) that reach beyond its
+	// scope, and CasesElsewhere the cases they hold outside it: a chain belongs to the report
+	// of every value it touches, with all its cases.
+	CrossingChains int `json:"crossing_chains"`
+	CasesElsewhere int `json:"cases_elsewhere"`
 }
 
 // Estimate is a point estimate with its percentile and BCa bootstrap intervals at the run's
@@ -344,10 +349,12 @@ type SizeCount struct {
 	Expected *float64 `json:"expected"`
 }
 
-// TreeView is one transmission tree, capped to Nodes; Hidden counts cases not drawn.
+// TreeView is one transmission tree, capped to Nodes; Hidden counts cases not drawn. Size is
+// the whole chain, Local the cases in the report's scope.
 type TreeView struct {
 	Root   string       `json:"root"`
 	Size   int          `json:"size"`
+	Local  int          `json:"local"`
 	Depth  int          `json:"depth"`
 	Start  linelist.Day `json:"start"`
 	Nodes  []TreeNode   `json:"nodes"`
@@ -363,6 +370,8 @@ type TreeNode struct {
 	Offspring  int          `json:"offspring"`
 	Onset      linelist.Day `json:"onset"`
 	Setting    string       `json:"setting,omitempty"`
+	// Elsewhere marks a case outside the report's scope (another jurisdiction).
+	Elsewhere bool `json:"elsewhere,omitempty"`
 }
 
 // AgeMixing counts infector → infectee links by age group (rows infector, columns
