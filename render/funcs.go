@@ -199,17 +199,22 @@ func (st *renderState) fnEst(e analysis.Estimate, digits int, percent bool) (mdT
 
 // intervalText formats a pair of nullable bounds: "0.74–0.88".
 func intervalText(b [2]*float64, digits int) string {
-	lo, hi := "…", "…"
-	if b[0] != nil {
-		lo = formatNumber(*b[0], digits)
-	}
-	if b[1] != nil {
-		hi = formatNumber(*b[1], digits)
-	}
 	if b[0] == nil && b[1] == nil {
 		return "not available"
 	}
-	return lo + "–" + hi
+	return boundsText(b, func(x float64) string { return formatNumber(x, digits) }, "–")
+}
+
+// boundsText writes an interval with at least one bound, num formatting each and sep between
+// them; a missing bound is said in words, since a reader cannot guess what a mark means.
+func boundsText(b [2]*float64, num func(float64) string, sep string) string {
+	switch {
+	case b[0] == nil:
+		return "up to " + num(*b[1]) + ", no lower limit can be given"
+	case b[1] == nil:
+		return "from " + num(*b[0]) + ", no upper limit can be given"
+	}
+	return num(*b[0]) + sep + num(*b[1])
 }
 
 func (st *renderState) fnInterval(b [2]*float64, digits int) mdText {

@@ -60,14 +60,7 @@ func (f cellFmt) interval(b [2]*float64, digits int) string {
 	if b[0] == nil && b[1] == nil {
 		return ""
 	}
-	lo, hi := "…", "…"
-	if b[0] != nil {
-		lo = f.num(*b[0], digits)
-	}
-	if b[1] != nil {
-		hi = f.num(*b[1], digits)
-	}
-	return lo + " to " + hi
+	return boundsText(b, func(x float64) string { return f.num(x, digits) }, " to ")
 }
 
 // tableDef is one table a template can print with table "name" (and --tables writes as

@@ -116,9 +116,10 @@ func (a *run) clusters() {
 	}
 	cl := &Clusters{NodesShown: nodesPerTree}
 	// The expectation drawn over the observed sizes is the chain-size fit's own
-	// [Blumberg & Lloyd-Smith 2013]: n·P(Y = y) under the (R, k) fitted to these sizes.
+	// [Blumberg & Lloyd-Smith 2013]: n·P(Y = y) under the (R, k) fitted to these sizes, when
+	// that fit is informative (ChainSizeInformative).
 	var pmf []float64
-	if o := a.s.Offspring; o != nil && o.ChainSizeFit != nil {
+	if o := a.s.Offspring; o != nil && o.ChainSizeFit != nil && o.ChainSizeFit.Informative {
 		p := offspring.Params{o.ChainSizeFit.R, math.Inf(1)}
 		if o.ChainSizeFit.K != nil {
 			p[offspring.ParamK] = *o.ChainSizeFit.K

@@ -89,3 +89,31 @@ func TestAssessment(t *testing.T) {
 }
 
 func linelistDay(n int) linelist.Day { return linelist.Day(n) }
+
+// The chain-size rule (ChainSizeInformative) at its boundaries: each threshold alone keeps
+// the fit out, and both met let it in.
+func TestChainSizeInformative(t *testing.T) {
+	for _, tc := range []struct {
+		complete, multi int
+		want            bool
+	}{
+		{MinCompleteChains - 1, MinCompleteMultiChains, false},
+		{MinCompleteChains, MinCompleteMultiChains - 1, false},
+		{MinCompleteChains, MinCompleteMultiChains, true},
+		{0, 0, false},
+	} {
+		got, reason := ChainSizeInformative(tc.complete, tc.multi)
+		if got != tc.want || (got == (reason != "")) {
+			t.Errorf("ChainSizeInformative(%d, %d) = %v %q, want %v and a reason exactly when false", tc.complete, tc.multi, got, reason, tc.want)
+		}
+	}
+}
+
+// overlaps: intervals that meet, that do not, and an open upper end.
+func TestOverlaps(t *testing.T) {
+	f := func(x float64) *float64 { return &x }
+	b := [2]*float64{f(0.7), f(1.2)}
+	if !overlaps(f(0.9), f(2), b) || overlaps(f(1.3), f(2), b) || !overlaps(f(1.1), nil, b) || overlaps(f(1.3), nil, b) || overlaps(f(0.1), f(0.6), b) {
+		t.Error("overlaps misreads an interval pair")
+	}
+}

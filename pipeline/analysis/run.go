@@ -473,7 +473,10 @@ func (a *run) offspring() {
 	for _, p := range offspring.ConcentrationCurve(t) {
 		o.Concentration = append(o.Concentration, CurvePoint{X: p.CaseShare, Y: p.TransmissionShare})
 	}
-	o.ChainSizeFit = a.chainSizeFit()
+	if o.ChainSizeFit = a.chainSizeFit(); o.ChainSizeFit != nil {
+		c := o.ChainSizeFit
+		c.Overlaps = overlaps(c.RCI[0], c.RCI[1], a.headlineBounds(o.R))
+	}
 	a.s.Offspring = o
 }
 
@@ -512,20 +515,54 @@ func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimat
 	}
 }
 
+// Minimum chains for a chain-size fit to be shown (ChainSizeInformative).
+const (
+	MinCompleteChains      = 20
+	MinCompleteMultiChains = 5
+)
+
+// ChainSizeInformative is the rule that decides whether a chain-size fit says anything: at
+// least MinCompleteChains chains have stopped growing and at least MinCompleteMultiChains
+// of those hold more than one case. A chain still growing enters the likelihood only as
+// "at least this size" [Blumberg & Lloyd-Smith 2013], so it bounds R from below and nothing
+// above; chains of one case inform the share that dies at once but not how large the others
+// grow. Below these counts the likelihood is flat in R and k, the fit lands anywhere and the
+// bootstrap interval runs to the edge of the search (the thresholds are common practice,
+// chosen to keep that case out; the reason is stated in the report).
+func ChainSizeInformative(complete, completeMulti int) (bool, string) {
+	switch {
+	case complete < MinCompleteChains:
+		return false, fmt.Sprintf("only %d chains have stopped growing, fewer than the %d it needs", complete, MinCompleteChains)
+	case completeMulti < MinCompleteMultiChains:
+		return false, fmt.Sprintf("only %d of the chains that stopped growing have more than one case, fewer than the %d it needs", completeMulti, MinCompleteMultiChains)
+	}
+	return true, ""
+}
+
 func (a *run) chainSizeFit() *ChainSizeFit {
 	var obs []branching.ChainObservation
+	complete, multi := 0, 0
 	for ci, c := range a.f.Clusters {
 		if !a.touches(ci) {
 			continue
 		}
-		obs = append(obs, branching.ChainObservation{Size: c.Size, Censored: int(a.o.AsOf-c.LastOnset) < a.w})
+		growing := int(a.o.AsOf-c.LastOnset) < a.w
+		obs = append(obs, branching.ChainObservation{Size: c.Size, Censored: growing})
+		if !growing {
+			complete++
+			if c.Size > 1 {
+				multi++
+			}
+		}
 	}
 	fit, err := branching.FitChainSizes(obs)
 	if err != nil {
 		a.note("No chain-size fit: %v.", err)
 		return nil
 	}
-	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true}
+	out := &ChainSizeFit{R: fit.R, K: fit.K, LogLik: fit.LogLik, Clusters: fit.Clusters, Censored: fit.Censored, Converged: true,
+		Complete: complete, CompleteMulti: multi}
+	out.Informative, out.Reason = ChainSizeInformative(complete, multi)
 	// The cluster bootstrap refits the model hundreds of times; with thousands of distinct
 	// cluster sizes and many large censored clusters (national line lists) that would keep
 	// the analyst waiting, and large-sample (Wald) intervals from the observed information,
@@ -552,6 +589,15 @@ func (a *run) chainSizeFit() *ChainSizeFit {
 	out.RCI = [2]*float64{numeric.FinitePtr(bs.RLo), numeric.FinitePtr(bs.RHi)}
 	out.KCI = [2]*float64{bs.KLo, bs.KHi}
 	return out
+}
+
+// overlaps reports whether the interval [lo, hi] (hi nil: no upper limit) meets the
+// interval b; with a bound missing there is no disagreement to explain.
+func overlaps(lo, hi *float64, b [2]*float64) bool {
+	if lo == nil || b[0] == nil || b[1] == nil {
+		return true
+	}
+	return *lo <= *b[1] && (hi == nil || *hi >= *b[0])
 }
 
 func (a *run) outlook() {

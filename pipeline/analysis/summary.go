@@ -197,6 +197,16 @@ type ChainSizeFit struct {
 	// large-sample intervals from the observed information).
 	IntervalMethod string `json:"interval_method"`
 	Replicates     int    `json:"replicates"`
+	// Informative is ChainSizeInformative's reading of the chains; when false the report
+	// leaves the fit out and says why (Reason).
+	Informative bool   `json:"informative"`
+	Reason      string `json:"reason,omitempty"`
+	// Complete counts the chains no longer growing, CompleteMulti those with more than one case.
+	Complete      int `json:"complete"`
+	CompleteMulti int `json:"complete_multi"`
+	// Overlaps is whether the fit's interval for R meets the link-based one; when it does
+	// not the report names what can pull them apart.
+	Overlaps bool `json:"overlaps"`
 }
 
 // Bins is a histogram over equal-width bins: Counts[i] values fell in [Edges[i], Edges[i+1]);
