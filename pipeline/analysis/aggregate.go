@@ -200,7 +200,7 @@ func (a *run) ageMixing() {
 			}
 		}
 	}
-	sort.Strings(groups)
+	sortCategories(linelist.ColAgeGroup, groups)
 	for k, g := range groups {
 		idx[g] = k
 	}
@@ -253,7 +253,7 @@ func (a *run) strata() {
 		for k := range m {
 			names = append(names, k)
 		}
-		sort.Strings(names)
+		sortCategories(name, names)
 		for _, v := range names {
 			x := m[v]
 			st := Stratum{Column: name, Value: v, Cases: count(x.cases), Counted: count(x.counted)}
