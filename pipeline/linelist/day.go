@@ -2,6 +2,8 @@ package linelist
 
 import (
 	"fmt"
+	"math"
+	"strconv"
 	"time"
 )
 
@@ -25,13 +27,33 @@ func (d Day) String() string { return d.Time().Format("2006-01-02") }
 // MarshalText writes d as YYYY-MM-DD, so a Day in JSON is a plain date string.
 func (d Day) MarshalText() ([]byte, error) { return []byte(d.String()), nil }
 
-// UnmarshalText reads YYYY-MM-DD.
+// UnmarshalText reads what MarshalText writes: YYYY-MM-DD, with the longer or signed year
+// that days outside years 0–9999 format to, so every Day survives a JSON round trip.
 func (d *Day) UnmarshalText(b []byte) error {
-	t, err := time.Parse("2006-01-02", string(b))
-	if err != nil {
-		return fmt.Errorf("date %q is not YYYY-MM-DD", b)
+	s := string(b)
+	bad := fmt.Errorf("date %q is not YYYY-MM-DD", clip(s))
+	if t, err := time.Parse("2006-01-02", s); err == nil {
+		*d = DayOf(t)
+		return nil
 	}
-	*d = DayOf(t)
+	if len(s) < 10 || len(s) > 16 || s[len(s)-3] != '-' || s[len(s)-6] != '-' {
+		return bad
+	}
+	y, err1 := strconv.Atoi(s[:len(s)-6])
+	m, err2 := strconv.Atoi(s[len(s)-5 : len(s)-3])
+	dd, err3 := strconv.Atoi(s[len(s)-2:])
+	if err1 != nil || err2 != nil || err3 != nil || m < 1 || m > 12 || dd < 1 || dd > 31 {
+		return bad
+	}
+	t := time.Date(y, time.Month(m), dd, 0, 0, 0, 0, time.UTC)
+	if t.Day() != dd {
+		return bad // no such day in that month
+	}
+	days := t.Unix() / 86400
+	if days < math.MinInt32 || days > math.MaxInt32 {
+		return bad
+	}
+	*d = Day(days)
 	return nil
 }
 
