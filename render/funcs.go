@@ -167,7 +167,7 @@ func (st *renderState) headline(e analysis.Estimate) [2]*float64 {
 }
 
 // estimateText formats an estimate with its headline interval: "0.80 (95% CI 0.74–0.88)".
-// A missing bound reads "no upper bound"/"no lower bound"; a missing estimate "not estimable".
+// A missing bound is said in words (boundsText); a missing estimate reads "not estimable".
 func (st *renderState) estimateText(e analysis.Estimate, digits int, percent bool) string {
 	f := func(x float64) string {
 		if percent {
@@ -180,17 +180,10 @@ func (st *renderState) estimateText(e analysis.Estimate, digits int, percent boo
 	}
 	b := st.headline(e)
 	out := f(*e.Estimate) + " (" + st.levelText() + " CI "
-	switch {
-	case b[0] != nil && b[1] != nil:
-		out += f(*b[0]) + "–" + f(*b[1])
-	case b[0] != nil:
-		out += f(*b[0]) + " to no upper bound"
-	case b[1] != nil:
-		out += "up to " + f(*b[1])
-	default:
-		out += "not available"
+	if b[0] == nil && b[1] == nil {
+		return out + "not available)"
 	}
-	return out + ")"
+	return out + boundsText(b, f, "–") + ")"
 }
 
 func (st *renderState) fnEst(e analysis.Estimate, digits int, percent bool) (mdText, error) {

@@ -392,6 +392,7 @@ func (a *run) offspring() {
 		N: t.N(), Censored: censored, CensorDays: a.w, Mean: t.Mean(), Variance: t.Variance(),
 		Histogram: t.Histogram(), Superspreaders: []string{},
 	}
+	o.SmallSample = smallSample(o.N)
 	if o.N < 2 {
 		a.note("Only %d case(s) lie outside the %d-day censoring window: too few to estimate the offspring distribution.", o.N, a.w)
 		return
@@ -625,6 +626,7 @@ func (a *run) outlook() {
 	ol.MajorOutbreakProbability = a.interval(func(p offspring.Params) float64 { return 1 - q(p) }, 1-q(point))
 	ol.ShareCausing80pct = a.interval(share, share(point))
 	ol.SSEThreshold = offspring.SuperspreadingThreshold(point.R())
+	a.currentChains(ol)
 	for _, i := range a.selected {
 		if a.censored(i) {
 			ol.Active++
@@ -672,8 +674,34 @@ func (a *run) endOfOutbreak() {
 		return
 	}
 	e := &EndOfOutbreak{LastOnset: last}
+	if gap := int(a.o.AsOf - last); gap < a.w {
+		ago := fmt.Sprintf("%d days before the analysis date", gap)
+		switch gap {
+		case 0:
+			ago = "on the analysis date"
+		case 1:
+			ago = "the day before the analysis date"
+		}
+		e.NotYet = fmt.Sprintf("the last case had onset %s, inside the %d-day window in which the people it infected may not yet be reported", ago, a.w)
+	}
+	lower, upper := a.endOfOutbreakBand(onsets, len(res.Days))
 	for k, day := range res.Days {
-		e.Curve = append(e.Curve, DayProbability{Date: linelist.Day(day), Probability: res.Probability[k]})
+		p := DayProbability{Date: linelist.Day(day), Probability: res.Probability[k]}
+		if lower != nil {
+			p.Lower, p.Upper = numeric.FinitePtr(lower[k]), numeric.FinitePtr(upper[k])
+		}
+		e.Curve = append(e.Curve, p)
+	}
+	if lower != nil {
+		for k, day := range res.Days {
+			d := linelist.Day(day)
+			if e.P95Range[0] == nil && upper[k] >= 0.95 {
+				e.P95Range[0] = &d
+			}
+			if e.P95Range[1] == nil && lower[k] >= 0.95 {
+				e.P95Range[1] = &d
+			}
+		}
 	}
 	if res.Day95 != nil {
 		d := linelist.Day(*res.Day95)
@@ -687,6 +715,39 @@ func (a *run) endOfOutbreak() {
 		e.RuleOfThumb = &RuleOfThumb{LongestIncubationDays: a.o.IncubationDays, Date: last + linelist.Day(2*a.o.IncubationDays)}
 	}
 	a.s.EndOfOutbreak = e
+}
+
+// endOfOutbreakBand is the central interval at the run's level of the end-of-outbreak curve
+// over the bootstrap replicates (at most projectionReplicates of them), day by day: the
+// type-7 quantiles of the replicate curves (a percentile band; common practice). Nil when
+// fewer than two replicate curves could be computed.
+func (a *run) endOfOutbreakBand(onsets []int, days int) (lower, upper []float64) {
+	var curves [][]float64
+	for b := 0; b < len(a.boot.Replicates) && b < projectionReplicates; b++ {
+		p := a.boot.Replicates[b]
+		if slices.ContainsFunc(p, math.IsNaN) {
+			continue
+		}
+		res, err := branching.EndOfOutbreak(onsets, a.family.Distribution(p), a.serial.CDF, int(a.o.AsOf), eooHorizon)
+		if err != nil || len(res.Probability) != days {
+			continue
+		}
+		curves = append(curves, res.Probability)
+	}
+	if len(curves) < 2 {
+		return nil, nil
+	}
+	alpha := (1 - a.o.Level) / 2
+	lower, upper = make([]float64, days), make([]float64, days)
+	col := make([]float64, len(curves))
+	for k := range days {
+		for b, c := range curves {
+			col[b] = c[k]
+		}
+		sort.Float64s(col)
+		lower[k], upper[k] = numeric.Quantile7(col, alpha), numeric.Quantile7(col, 1-alpha)
+	}
+	return lower, upper
 }
 
 // bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins

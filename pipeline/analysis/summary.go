@@ -132,6 +132,10 @@ type Offspring struct {
 	// PoissonLimit is true when the sample variance does not exceed the mean: no finite k.
 	PoissonLimit bool `json:"poisson_limit"`
 
+	// SmallSample is a warning sentence when the estimates rest on fewer than
+	// MinCasesForVerdict cases, empty otherwise.
+	SmallSample string `json:"small_sample,omitempty"`
+
 	Bootstrap    BootstrapInfo `json:"bootstrap"`
 	ChainSizeFit *ChainSizeFit `json:"chain_size_fit"`
 
@@ -228,16 +232,33 @@ type CurvePoint struct {
 
 // Outlook is the branching-process outlook from the fitted model [Harris 1963; Blumberg & Lloyd-Smith 2013].
 type Outlook struct {
-	Model                    string       `json:"model"`
-	ExtinctionProbability    Estimate     `json:"extinction_probability"`
-	MajorOutbreakProbability Estimate     `json:"major_outbreak_probability"`
-	ShareCausing80pct        Estimate     `json:"share_causing_80pct"`
-	SSEThreshold             int          `json:"sse_threshold"`
-	Active                   int          `json:"active"`
-	Projection               []Projection `json:"projection"`
+	Model                    string   `json:"model"`
+	ExtinctionProbability    Estimate `json:"extinction_probability"`
+	MajorOutbreakProbability Estimate `json:"major_outbreak_probability"`
+	ShareCausing80pct        Estimate `json:"share_causing_80pct"`
+	SSEThreshold             int      `json:"sse_threshold"`
+	Active                   int      `json:"active"`
+	// CurrentChains is what the model says of the chains now under way; nil, with
+	// CurrentChainsNote saying why, when it cannot be computed.
+	CurrentChains     *CurrentChains `json:"current_chains"`
+	CurrentChainsNote string         `json:"current_chains_note,omitempty"`
+	Projection        []Projection   `json:"projection"`
 	// ChainSize is the model's chain-size distribution P(Y = y), y = 1.., against which the
 	// observed cluster sizes are drawn.
 	ChainSize []float64 `json:"chain_size,omitempty"`
+}
+
+// CurrentChains reads the chains now under way: every case of the report with its individual
+// reproduction number conditioned on the people it has infected so far in the share of its
+// serial interval that has passed (branching.CurrentChains), with bootstrap intervals.
+type CurrentChains struct {
+	// DieOut is the probability that all of them die out on their own.
+	DieOut Estimate `json:"die_out"`
+	// Pending is the expected number of people the listed cases have still to infect.
+	Pending Estimate `json:"pending"`
+	// Further is the expected number of cases still to come over all generations; its
+	// estimate or upper bound is null where R ≥ 1, which has no finite expectation.
+	Further Estimate `json:"further"`
 }
 
 // Projection is the predictive distribution of one future generation's case count, mixed
@@ -308,17 +329,28 @@ type InferredLinks struct {
 // EndOfOutbreak is the probability that no further case follows, day by day
 // [Nishiura, Miyamatsu & Mizumoto 2016].
 type EndOfOutbreak struct {
-	Curve       []DayProbability `json:"curve"`
-	P95Date     *linelist.Day    `json:"p95_date"`
-	P99Date     *linelist.Day    `json:"p99_date"`
-	LastOnset   linelist.Day     `json:"last_onset"`
-	RuleOfThumb *RuleOfThumb     `json:"rule_of_thumb,omitempty"`
+	Curve   []DayProbability `json:"curve"`
+	P95Date *linelist.Day    `json:"p95_date"`
+	P99Date *linelist.Day    `json:"p99_date"`
+	// P95Range is the interval of the day the chance reaches 95%, from the band of the
+	// bootstrap replicates (its earliest day where the upper end reaches 95%, its latest
+	// where the lower end does); an end is null when it lies beyond the curve.
+	P95Range  [2]*linelist.Day `json:"p95_range"`
+	LastOnset linelist.Day     `json:"last_onset"`
+	// NotYet is the reason the curve cannot be read yet, empty when it can: while cases are
+	// still being reported within the censoring window, the chance that none follows is
+	// about a future the data have not reached.
+	NotYet      string       `json:"not_yet,omitempty"`
+	RuleOfThumb *RuleOfThumb `json:"rule_of_thumb,omitempty"`
 }
 
-// DayProbability is one point of the end-of-outbreak curve.
+// DayProbability is one point of the end-of-outbreak curve, with the central interval of
+// the bootstrap replicates at the run's level (Lower, Upper; null where none was computed).
 type DayProbability struct {
 	Date        linelist.Day `json:"date"`
 	Probability float64      `json:"probability"`
+	Lower       *float64     `json:"lower"`
+	Upper       *float64     `json:"upper"`
 }
 
 // RuleOfThumb is the declaration rule "twice the longest incubation period after the last

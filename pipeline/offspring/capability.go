@@ -66,6 +66,18 @@ type IndividualR interface {
 	ShareCausing(target float64) (float64, error)
 }
 
+// NuPosterior is an IndividualR that can condition a case's ν on the offspring it has had so
+// far. A case whose serial interval has run for the share F (its serial-interval CDF at the
+// time elapsed since its onset) and which has infected o people carries ν | o, and its
+// offspring still to come are Poisson(ν(1 − F)). Branching uses it for the chance that the
+// chains now under way die out and for the cases they may still cause.
+type NuPosterior interface {
+	// PosteriorMean is E[ν | o, F] for a model of mean R.
+	PosteriorMean(mean, o, elapsed float64) float64
+	// PosteriorLogLaplace is log E[e^{−tν} | o, F], t ≥ 0.
+	PosteriorLogLaplace(mean, o, elapsed, t float64) float64
+}
+
 // FiniteSupport is a model with P(Z = x) = 0 for every x above MaxCount: sums over the PMF
 // stop there instead of at a tail tolerance.
 type FiniteSupport interface {
