@@ -220,3 +220,23 @@ func TestUnclosedActionNamesItsLine(t *testing.T) {
 		t.Errorf("error %v", err)
 	}
 }
+
+func TestCategoryColours(t *testing.T) {
+	batch := []string{"care home", "event", "household", "school"}
+	a := &renderState{s: &analysis.Summary{}, categories: batch}
+	b := &renderState{s: &analysis.Summary{}, categories: batch, cfg: Config{Colours: map[string]string{"school": "#123456"}}}
+	if a.categoryColour("event") != b.categoryColour("event") || a.categoryColour("household") == a.categoryColour("event") {
+		t.Errorf("event %s / %s, household %s", a.categoryColour("event"), b.categoryColour("event"), a.categoryColour("household"))
+	}
+	if got := b.categoryColour("school"); got != "#123456" {
+		t.Errorf("a pinned colour: got %s", got)
+	}
+	for _, v := range batch {
+		if a.categoryColour(v) == colMuted {
+			t.Errorf("%s takes the grey of the combined small groups", v)
+		}
+	}
+	if _, err := ParseConfig("config.yaml", []byte("colours:\n  school: blue\n")); err == nil || !strings.Contains(err.Error(), "line 2") {
+		t.Errorf("a colour that is not #rrggbb: %v", err)
+	}
+}

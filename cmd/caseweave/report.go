@@ -28,6 +28,8 @@ import (
 // reportFlags are report's own flags, on top of estimate's.
 type reportFlags struct {
 	estimateFlags
+	// categories are the settings of the whole line list, which colour every report alike.
+	categories []string
 	template  string
 	out       string
 	tablesDir string
@@ -108,6 +110,7 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 	if err != nil {
 		return err
 	}
+	f.categories = analysis.SettingLabels(ld.list.Cases)
 	var pages []page
 	if f.by == "" {
 		p, err := f.one(c, e, ld, tmplRoot, nil)
@@ -191,7 +194,7 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	if err != nil {
 		return page{}, withCode(exitInput, err)
 	}
-	html, err := render.Render(rel, render.Options{Templates: fsys, Config: &rc})
+	html, err := render.Render(rel, render.Options{Templates: fsys, Config: &rc, Categories: f.categories})
 	if err != nil {
 		var te *render.TemplateError
 		var fe *linelist.FileError

@@ -142,6 +142,17 @@ func suppressTables(t *countTableSet, thr int) {
 	}
 }
 
+// held counts the withheld entries.
+func (t *countTableSet) held() int {
+	n := 0
+	for _, e := range t.entries {
+		if e.held {
+			n++
+		}
+	}
+	return n
+}
+
 // lineLeak says how a line gives a withheld count away, or "" when it does not.
 func (t *countTableSet) lineLeak(l countLine, thr int) string {
 	held, sum, shownNonZero := 0, 0, 0

@@ -106,6 +106,11 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	t := countTables(c)
 	suppressTables(t, thr)
 	t.withhold()
+	if held := t.held(); held > 0 {
+		c.Cautions = append(c.Cautions, Caution{Kind: CautionWithheldCounts, Text: fmt.Sprintf(
+			"%s in the tables by week, setting and age group are withheld: counts from 1 to %d, and the counts that would let one be worked out, are not shown, to protect the people behind small numbers.",
+			countOf(held, "count"), thr-1)})
+	}
 	for i := range c.Strata {
 		st := &c.Strata[i]
 		if st.Cases == nil || st.Counted == nil || *st.Counted < thr {

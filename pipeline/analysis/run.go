@@ -170,6 +170,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.clusters()
 	a.ageMixing()
 	a.strata()
+	a.cautions()
 	return s, nil
 }
 

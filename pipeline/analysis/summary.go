@@ -34,6 +34,10 @@ type Summary struct {
 	AgeMixing *AgeMixing `json:"age_mixing,omitempty"`
 	Strata    []Stratum  `json:"strata,omitempty"`
 
+	// Cautions are sentences computed from this run's numbers on what its estimates cannot
+	// tell (see Caution); the report shows them beside its general caution.
+	Cautions []Caution `json:"cautions,omitempty"`
+
 	// Notes are plain-language remarks the run made about itself (a model that could not be
 	// fitted, a section left out for lack of data); the report shows them.
 	Notes []string `json:"notes,omitempty"`
