@@ -30,13 +30,13 @@ type reportFlags struct {
 	estimateFlags
 	// categories are the settings of the whole line list, which colour every report alike.
 	categories []string
-	template  string
-	out       string
-	tablesDir string
-	by        string
-	pdf       bool
-	showIDs   bool
-	incub     int
+	template   string
+	out        string
+	tablesDir  string
+	by         string
+	pdf        bool
+	showIDs    bool
+	incub      int
 	// templateConfig is set when the config was taken from the --template folder.
 	templateConfig bool
 	// pseudonyms are the batch's, one per pseudonym key.
