@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 )
@@ -41,6 +42,53 @@ func TestBrowserDrawsEveryChartOffline(t *testing.T) {
 	}
 	if check.RequestsAttempted != 0 {
 		t.Errorf("the report tried %d requests: %v", check.RequestsAttempted, check.RequestURLs)
+	}
+}
+
+// No chart text (axis name, tick label, legend, mark label) is drawn outside its chart, on
+// screen and at the width of an A4 page.
+func TestBrowserChartLabelsInsideTheirCharts(t *testing.T) {
+	needBrowser(t)
+	html, err := Render(released(fixtureSummary()), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []int64{1280, browser.A4Width} {
+		ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
+		check, err := browser.InspectAtWidth(ctx, html, w)
+		cancel()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if check.LabelsChecked < 100 {
+			t.Errorf("%d px: only %d chart texts measured; the probe is not reading the charts", w, check.LabelsChecked)
+		}
+		for _, c := range check.Clipped {
+			t.Errorf("%d px: clipped %s", w, c)
+		}
+	}
+}
+
+// The label probe must see a label drawn outside its chart, or the check above proves nothing.
+func TestBrowserSeesAClippedLabel(t *testing.T) {
+	needBrowser(t)
+	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
+	defer cancel()
+	html, err := Render(released(fixtureSummary()), Options{Charts: []string{"epicurve"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Push the y axis name far beyond the left edge of the chart.
+	bad := strings.Replace(string(html), `"nameGap":40`, `"nameGap":400`, 1)
+	if bad == string(html) {
+		t.Fatal("the epidemic curve's y axis has no nameGap of 40 to change")
+	}
+	check, err := browser.InspectInBrowser(ctx, []byte(bad))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(check.Clipped) == 0 {
+		t.Errorf("an axis name 400 px off the chart was not found among %d texts", check.LabelsChecked)
 	}
 }
 

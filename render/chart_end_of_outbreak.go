@@ -62,7 +62,8 @@ func (st *renderState) chartEndOfOutbreak(e *analysis.EndOfOutbreak) ([]chartSpe
 			}))
 		}
 	}
-	obj, err := finish("end_of_outbreak", f, line, nil)
+	// Room at the right for half of the last date label, which is centred on its tick.
+	obj, err := finish("end_of_outbreak", f, line, gridRight(48))
 	caption := "The chance that no further case follows, given the cases so far, the fitted offspring distribution and the serial interval, if no new case is reported by that date; the dashed lines bound the range over the bootstrap replicates."
 	return one(chartSpec{ID: id, Title: "Chance the outbreak is over", Caption: caption, Height: chartHeight, Option: obj}, err)
 }
