@@ -91,6 +91,9 @@ type Config struct {
 	PseudonymKey string
 	// Colours pins a chart colour (#rrggbb) to a category value, such as a setting.
 	Colours map[string]string
+	// OffspringScale is the count axis of the offspring chart: "log", "linear", or ""
+	// (logarithmic when the tail is long; see offspringLogScale).
+	OffspringScale string
 }
 
 // DefaultConfig is the configuration of a template folder without a config.yaml.
@@ -185,6 +188,18 @@ var configKeys = []configKey{
 		return nil
 	}},
 	{"pseudonym_key", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "pseudonym_key", &c.PseudonymKey) }},
+	{"offspring_scale", func(c *Config, v *yaml.Node) error {
+		if err := decodeScalar(v, "offspring_scale", &c.OffspringScale); err != nil {
+			return err
+		}
+		if c.OffspringScale != "log" && c.OffspringScale != "linear" && c.OffspringScale != "auto" {
+			return configErr(v.Line, "offspring_scale must be log, linear or auto, not %q", c.OffspringScale)
+		}
+		if c.OffspringScale == "auto" {
+			c.OffspringScale = ""
+		}
+		return nil
+	}},
 	{"colours", func(c *Config, v *yaml.Node) error {
 		if v.Kind != yaml.MappingNode {
 			return configErr(v.Line, "colours must map category values to colours (school: \"#1f5c6e\")")

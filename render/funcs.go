@@ -55,6 +55,7 @@ func (st *renderState) funcs() template.FuncMap {
 		"jurisdiction": func() mdText {
 			return mdText(escapeMarkdown(st.cfg.Jurisdiction))
 		},
+		"place":         func() mdText { return mdText(escapeMarkdown(st.place())) },
 		"contact":       func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
 		"caution":       st.fnCaution,
 		"caseid":        func(id string) mdText { return mdText(escapeMarkdown(id)) },
@@ -279,6 +280,21 @@ func fnPlural(n any, one, many string) (mdText, error) {
 func (st *renderState) fnTitle(section string) (mdText, error) {
 	t, err := st.cfg.title(section)
 	return mdText(escapeMarkdown(t)), err
+}
+
+// place names what the report covers, for its title: the configured jurisdiction, and the
+// value of a report of a batch (--by) when it is not that name already ("Vell Estuary
+// Health Board — school"); either alone when the other is missing.
+func (st *renderState) place() string {
+	j := st.cfg.Jurisdiction
+	sc := st.s.Scope
+	switch {
+	case sc == nil || sc.Value == j:
+		return j
+	case j == "":
+		return sc.Value
+	}
+	return j + " — " + sc.Value
 }
 
 // fnCaution prints the configured caution text (or the default), escaped, keeping its

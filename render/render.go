@@ -222,8 +222,8 @@ func pageHTML(st *renderState, body []byte, css template.CSS) ([]byte, error) {
 		}
 	}
 	title := "Transmission report"
-	if st.cfg.Jurisdiction != "" {
-		title += " — " + st.cfg.Jurisdiction
+	if p := st.place(); p != "" {
+		title += " — " + p
 	}
 	title += " — data to " + dayText(st.s.AsOf)
 	var out bytes.Buffer

@@ -156,3 +156,40 @@ func TestBinsCountWhatTheyLeaveOut(t *testing.T) {
 			binned, b.Overflow, b.Infinite)
 	}
 }
+
+// Bootstrap values of R = (whole number)/n lie on a lattice of step 1/n: each bin must span
+// the same whole number of lattice steps, with its edges halfway between lattice points, or
+// the histogram shows a comb (common practice for histograms of discrete values).
+func TestBinsFollowTheLattice(t *testing.T) {
+	const n = 151
+	rng := rand.New(rand.NewPCG(1, 2))
+	var reps []offspring.Params
+	for range 1000 {
+		m := 0
+		for range n {
+			m += rng.IntN(3) // offspring 0, 1 or 2
+		}
+		reps = append(reps, offspring.Params{float64(m) / n, 0.5})
+	}
+	b := bins(reps, offspring.StatR)
+	step := 1.0 / n
+	w := b.Edges[1] - b.Edges[0]
+	if per := w / step; math.Abs(per-math.Round(per)) > 1e-6 || per < 1 {
+		t.Fatalf("bin width %v is %v lattice steps, not a whole number", w, per)
+	}
+	for _, e := range b.Edges {
+		if off := e/step - math.Floor(e/step); math.Abs(off-0.5) > 1e-6 {
+			t.Fatalf("edge %v lies %v of a step past a lattice point, not halfway", e, off)
+		}
+	}
+	if len(b.Counts) > 30 {
+		t.Errorf("%d bins", len(b.Counts))
+	}
+	total := b.Overflow
+	for _, c := range b.Counts {
+		total += c
+	}
+	if total != 1000 {
+		t.Errorf("%d of 1000 values counted", total)
+	}
+}

@@ -751,10 +751,14 @@ func (a *run) endOfOutbreakBand(onsets []int, days int) (lower, upper []float64)
 	return lower, upper
 }
 
-// bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins
-// from the smallest value to the 99th percentile; larger values (k can run to thousands
-// in replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
-// itself) in Infinite; NaN (failed fits, counted elsewhere) is left out.
+// bins makes a histogram of a statistic over the replicates, of at most 30 bins from the
+// smallest value to the 99th percentile; larger values (k can run to thousands in
+// replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
+// itself) in Infinite; NaN (failed fits, counted elsewhere) is left out. When the values lie
+// on a lattice (R from a case bootstrap is a whole number of offspring over n cases) the bin
+// width is a whole number of lattice steps and the edges fall halfway between lattice
+// points, so every bin holds the same number of attainable values and no comb appears
+// (equal-width bins that ignore the lattice alternate between holding k and k + 1 of them).
 func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	var xs []float64
 	infinite := 0
@@ -771,23 +775,55 @@ func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	}
 	sort.Float64s(xs)
 	lo, hi := xs[0], xs[int(0.99*float64(len(xs)-1))]
-	const n = 30
-	if hi <= lo {
-		hi = lo + 1e-9
+	const maxBins = 30
+	n := maxBins
+	var start, width float64
+	if step := latticeStep(xs); step > 0 {
+		per := math.Max(1, math.Ceil((hi-lo)/step/maxBins))
+		width = per * step
+		start = lo - step/2
+		n = max(1, int(math.Ceil((hi-start)/width)))
+	} else {
+		if hi <= lo {
+			hi = lo + 1e-9
+		}
+		start, width = lo, (hi-lo)/maxBins
 	}
-	width := (hi - lo) / n
+	end := start + float64(n)*width
 	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n), Infinite: infinite}
 	for i := range b.Edges {
-		b.Edges[i] = lo + float64(i)*width
+		b.Edges[i] = start + float64(i)*width
 	}
 	for _, v := range xs {
-		if v > hi {
+		if v > hi || v > end {
 			b.Overflow++
 			continue
 		}
-		b.Counts[min(int((v-lo)/width), n-1)]++
+		b.Counts[min(max(int((v-start)/width), 0), n-1)]++
 	}
 	return b
+}
+
+// latticeStep is δ when the distinct values of sorted xs are all whole multiples of δ apart,
+// δ their smallest gap (to 1e-6 of a step, well above rounding and well below a step); 0
+// when they are not, or when there are fewer than two.
+func latticeStep(xs []float64) float64 {
+	step := math.Inf(1)
+	for i := 1; i < len(xs); i++ {
+		if g := xs[i] - xs[i-1]; g > 1e-12*math.Max(1, math.Abs(xs[i])) && g < step {
+			step = g
+		}
+	}
+	if math.IsInf(step, 1) {
+		return 0
+	}
+	for i := 1; i < len(xs); i++ {
+		g := (xs[i] - xs[0]) / step
+		if math.Abs(g-math.Round(g)) > 1e-6 {
+			return 0
+		}
+	}
+	return step
 }
 
 // weekly computes mean offspring by ISO onset week, all selected cases included and the

@@ -276,8 +276,15 @@ func InspectAtWidth(ctx context.Context, html []byte, width int64) (*PageCheck, 
 	return &check, nil
 }
 
-// PrintPDF prints html to PDF on A4 with backgrounds, with every fold-out opened so the
-// "how this was computed" notes are on paper too.
+// pdfFooter is the footer of every printed page: the report's title (its <title>, which
+// names the place and the analysis date) and the page number of the total. Chromium fills
+// the spans of these classes; a footer has no font size of its own, so it sets one.
+const pdfFooter = `<div style="font: 8pt system-ui, Arial, sans-serif; color: #5b6670; width: 100%; margin: 0 14mm; display: flex; justify-content: space-between;">` +
+	`<span class="title"></span><span>page <span class="pageNumber"></span> of <span class="totalPages"></span></span></div>`
+
+// PrintPDF prints html to PDF on A4 with backgrounds and a footer on every page (the title
+// and "page n of m"), with every fold-out opened so the "how this was computed" notes are on
+// paper too.
 func PrintPDF(ctx context.Context, html []byte) ([]byte, error) {
 	s, err := openPage(ctx, html, 1280)
 	if err != nil {
@@ -292,6 +299,9 @@ func PrintPDF(ctx context.Context, html []byte) ([]byte, error) {
 		chromedp.PDFPaper(chromedp.PaperA4),
 		chromedp.PDFPrintBackground(),
 		chromedp.PDFPreferCSSPageSize(),
+		chromedp.PDFMargins(0.55, 0.6, 0.7, 0.6),
+		chromedp.PDFHeaderTemplate(`<span></span>`),
+		chromedp.PDFFooterTemplate(pdfFooter),
 	))
 	if err != nil {
 		return nil, fmt.Errorf("printing to PDF: %w", err)
