@@ -2,10 +2,12 @@ package render
 
 import (
 	"context"
+	"fmt"
 	"github.com/caseweave/caseweave/render/browser"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -138,5 +140,27 @@ func TestPrintPDFRendersToPNG(t *testing.T) {
 	pages, _ := filepath.Glob(filepath.Join(dir, "page-*.png"))
 	if len(pages) < 5 {
 		t.Errorf("pdftoppm made %d pages, want the whole report (at least 5)", len(pages))
+	}
+	// Page one is the summary (title, headline, epidemic curve) and every page has the
+	// footer with the title and its number; pdftotext is poppler's, beside pdftoppm.
+	text := func(page int) string {
+		out, err := exec.CommandContext(ctx, "pdftotext", "-f", strconv.Itoa(page), "-l", strconv.Itoa(page), in, "-").Output()
+		if err != nil {
+			t.Fatalf("pdftotext page %d: %v", page, err)
+		}
+		return string(out)
+	}
+	first := text(1)
+	for _, want := range []string{"Transmission report", "At a glance", "Cases by week of symptom onset", "page 1 of " + strconv.Itoa(len(pages))} {
+		if !strings.Contains(first, want) {
+			t.Errorf("page 1 lacks %q:\n%s", want, first)
+		}
+	}
+	if strings.Contains(first, "Data quality") {
+		t.Error("page 1 runs on past the summary into the data-quality section")
+	}
+	last := text(len(pages))
+	if want := fmt.Sprintf("page %d of %d", len(pages), len(pages)); !strings.Contains(last, want) || !strings.Contains(last, "Transmission report") {
+		t.Errorf("the last page's footer lacks %q or the title:\n%s", want, last)
 	}
 }
