@@ -1,5 +1,7 @@
 package offspring
 
+import "math/rand/v2"
+
 // A Distribution needs only its PMF and PGF; everything in package branching works from
 // those. The interfaces below are optional capabilities a model may add when it knows a
 // faster or more accurate form of one piece of algebra. Package branching asks for each with
@@ -76,6 +78,8 @@ type NuPosterior interface {
 	PosteriorMean(mean, o, elapsed float64) float64
 	// PosteriorLogLaplace is log E[e^{−tν} | o, F], t ≥ 0.
 	PosteriorLogLaplace(mean, o, elapsed, t float64) float64
+	// PosteriorSample draws ν | o, F; with o = F = 0, ν from its prior.
+	PosteriorSample(rng *rand.Rand, mean, o, elapsed float64) float64
 }
 
 // FiniteSupport is a model with P(Z = x) = 0 for every x above MaxCount: sums over the PMF

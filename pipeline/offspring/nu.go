@@ -3,6 +3,9 @@ package offspring
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
+
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 
 	"gonum.org/v1/gonum/mathext"
 )
@@ -58,3 +61,15 @@ func (PointNu) PosteriorMean(mean, _, _ float64) float64 { return mean }
 
 // PosteriorLogLaplace is −tR.
 func (PointNu) PosteriorLogLaplace(mean, _, _, t float64) float64 { return -t * mean }
+
+// PosteriorSample draws ν from the gamma posterior of PosteriorMean (Marsaglia–Tsang,
+// numeric.Gamma); with o = 0 and F = 0 it is the prior, Gamma(k, mean R).
+func (g GammaNu) PosteriorSample(rng *rand.Rand, mean, o, elapsed float64) float64 {
+	if mean == 0 {
+		return 0
+	}
+	return numeric.Gamma(rng, g.Shape+o) / (g.Shape/mean + elapsed)
+}
+
+// PosteriorSample is R.
+func (PointNu) PosteriorSample(_ *rand.Rand, mean, _, _ float64) float64 { return mean }
