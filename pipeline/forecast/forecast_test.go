@@ -184,10 +184,13 @@ func TestForecastRejectsWhatItCannotUse(t *testing.T) {
 		cases []Case
 		o     func(Options) Options
 	}{
-		"weeks":        {nil, func(o Options) Options { o.Weeks = 0; return o }},
-		"serial":       {nil, func(o Options) Options { o.Serial = nil; return o }},
-		"models":       {nil, func(o Options) Options { o.Models = nil; return o }},
-		"list model":   {nil, func(o Options) Options { o.Models = []offspring.Distribution{offspring.Empirical{P: []float64{1}}}; return o }},
+		"weeks":  {nil, func(o Options) Options { o.Weeks = 0; return o }},
+		"serial": {nil, func(o Options) Options { o.Serial = nil; return o }},
+		"models": {nil, func(o Options) Options { o.Models = nil; return o }},
+		"list model": {nil, func(o Options) Options {
+			o.Models = []offspring.Distribution{offspring.Empirical{P: []float64{1}}}
+			return o
+		}},
 		"imports":      {nil, func(o Options) Options { o.ImportsPerWeek = math.NaN(); return o }},
 		"future onset": {[]Case{{Onset: 101}}, func(o Options) Options { return o }},
 		"bad count":    {[]Case{{Onset: 90, Offspring: -1}}, func(o Options) Options { return o }},
