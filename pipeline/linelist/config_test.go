@@ -82,7 +82,7 @@ func TestConfigMappingOverridesVariants(t *testing.T) {
 	// configured header is matched ignoring case.
 	in := InputConfig{Columns: map[string]string{ColCaseID: "lab ref", ColOnsetDate: "Sick Since"}}
 	ll := mustRead(t, "ID,Lab Ref,SICK SINCE\n1,L-9,2026-02-01\n", Options{Input: in})
-	if len(ll.Cases) != 1 || ll.Cases[0].ID != "L-9" || ll.Mapping[ColCaseID] != "Lab Ref" {
-		t.Errorf("cases %+v mapping %v", ll.Cases, ll.Mapping)
+	if len(ll.Cases) != 1 || ll.Cases[0].ID != "L-9" || ll.Sources[0].Mapping[ColCaseID] != "Lab Ref" {
+		t.Errorf("cases %+v mapping %v", ll.Cases, ll.Sources[0].Mapping)
 	}
 }

@@ -67,7 +67,7 @@ delimiter: ";"
 		fmt.Println(err)
 		return
 	}
-	fmt.Println(ll.Cases[0].ID, ll.Cases[0].Onset, ll.Mapping["onset_date"])
+	fmt.Println(ll.Cases[0].ID, ll.Cases[0].Onset, ll.Sources[0].Mapping["onset_date"])
 
 	_ = yaml.Unmarshal([]byte("columns:\n  onset_date: Date\n  report_date: Date\n"), &doc)
 	fmt.Println(linelist.ParseInput(doc.Content[0], &in))
