@@ -106,9 +106,17 @@ func printInputFile(w io.Writer, f analysis.InputFile, counts bool) {
 		fmt.Fprintf(w, "Header     line %d\n", f.HeaderRow)
 	}
 	if counts {
-		fmt.Fprintf(w, "Rows       %d read, %d used, %d rejected\n", f.Rows, f.Used, f.Rejected)
+		fmt.Fprintf(w, "Rows       %s read, %s used, %s rejected\n", countText(f.Rows), countText(f.Used), countText(f.Rejected))
 	}
 	fmt.Fprintln(w)
+}
+
+// countText prints a count a released view may withhold.
+func countText(n *int) string {
+	if n == nil {
+		return "withheld"
+	}
+	return fmt.Sprint(*n)
 }
 
 func percent(a, b int) string {

@@ -76,7 +76,11 @@ func (f *inputFlags) load(e env, paths []string) (*loaded, error) {
 	if err != nil {
 		return nil, withCode(exitInput, err) // a *linelist.FileError names the file itself
 	}
-	return &loaded{path: strings.Join(paths, ", "), asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
+	names := make([]string, len(ll.Sources))
+	for i := range ll.Sources {
+		names[i] = ll.Sources[i].Name()
+	}
+	return &loaded{path: strings.Join(names, ", "), asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
 }
 
 // writeJSONs writes the --json (released) and --internal-json (full) documents of a command

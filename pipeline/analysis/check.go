@@ -30,8 +30,8 @@ func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf lin
 		},
 	}
 	for i, src := range ll.Sources {
-		f := InputFile{Path: src.Path, SHA256: src.SHA256, Format: src.Format, Gzip: src.Gzip, Sheet: src.Sheet,
-			SheetReason: src.SheetReason, HeaderRow: src.HeaderRow, Note: src.Note, Rows: src.Rows, Used: src.Used, Rejected: src.Rows - src.Used}
+		f := InputFile{Path: src.Name(), SHA256: src.SHA256, Format: src.Format, Gzip: src.Gzip, Sheet: src.Sheet,
+			SheetReason: src.SheetReason, HeaderRow: src.HeaderRow, Note: src.Note, Rows: count(src.Rows), Used: count(src.Used), Rejected: count(src.Rows - src.Used)}
 		if src.Format == linelist.FormatWorkbook {
 			f.DateSystem = "1900"
 			if src.Date1904 {
@@ -51,7 +51,7 @@ func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf lin
 	for i, p := range all {
 		q := Problem{Row: p.Row, Column: p.Column, Code: p.Code, Severity: p.Severity, Message: p.Message}
 		if p.Source >= 0 && p.Source < len(ll.Sources) {
-			q.File, q.Place = ll.Sources[p.Source].Path, ll.Sources[p.Source].At(p.Row, p.Column)
+			q.File, q.Place = ll.Sources[p.Source].Name(), ll.Sources[p.Source].At(p.Row, p.Column)
 		}
 		s.Problems[i] = q
 	}

@@ -78,6 +78,8 @@ type Input struct {
 
 // InputFile is one file read: its format ("csv" or "xlsx", Gzip when it was compressed),
 // the workbook sheet chosen and why, the header's line or spreadsheet row, and its rows.
+// With several files (often one per region) the row counts are a count by place, so a
+// released view withholds small ones (null); Rows = Used + Rejected where all are shown.
 type InputFile struct {
 	Path        string `json:"path"`
 	SHA256      string `json:"sha256"`
@@ -88,9 +90,9 @@ type InputFile struct {
 	DateSystem  string `json:"date_system,omitempty"` // "1900" or "1904", workbooks only
 	HeaderRow   int    `json:"header_row"`
 	Note        string `json:"note,omitempty"` // where the name and the content disagree
-	Rows        int    `json:"rows"`
-	Used        int    `json:"used"`
-	Rejected    int    `json:"rejected"`
+	Rows        *int   `json:"rows"`
+	Used        *int   `json:"used"`
+	Rejected    *int   `json:"rejected"`
 }
 
 // Problem is one thing wrong with the input: File is the file it is in, Row the physical

@@ -32,13 +32,18 @@ const StdinPath = "-"
 const maxSources = 1 << 16
 
 // Limits on compressed input, so that a compression bomb ends in a FileError instead of
-// exhausting memory, disk or time. A line list compresses about 5 to 20 times (common
-// practice); deflate cannot exceed about 1032 to 1, which is what a bomb aims for. Content
-// is refused once it passes bombFloor bytes uncompressed at more than bombRatio times its
-// compressed size, or passes maxUnzipped whatever the ratio.
+// exhausting memory, disk or time. A CSV line list compresses about 5 to 20 times and a
+// workbook's verbose XML about 10 to 50 times (common practice); deflate cannot exceed about
+// 1032 to 1, which is what a bomb aims for. A gzip stream is refused once it passes
+// gzipFloor bytes uncompressed at more than gzipRatio times the compressed bytes read; a
+// workbook when its entries declare more than zipFloor bytes at more than zipRatio times
+// the archive's size; either when it passes maxUnzipped whatever the ratio. The gzip floor
+// is low because every row it lets through can become a case in memory.
 const (
-	bombFloor   = 256 << 20
-	bombRatio   = 100
+	gzipFloor   = 16 << 20
+	gzipRatio   = 100
+	zipFloor    = 256 << 20
+	zipRatio    = 200
 	maxUnzipped = 4 << 30
 	// maxWorkbook is the largest workbook file read: a zip archive is read into memory,
 	// as its directory sits at its end.
@@ -229,7 +234,7 @@ func (c *countingReader) Read(p []byte) (int, error) {
 }
 
 // inflateGuard passes decompressed bytes on until they betray a compression bomb (see
-// bombFloor).
+// gzipFloor).
 type inflateGuard struct {
 	r   io.Reader
 	in  *countingReader
@@ -239,20 +244,20 @@ type inflateGuard struct {
 func (g *inflateGuard) Read(p []byte) (int, error) {
 	n, err := g.r.Read(p)
 	g.out += int64(n)
-	if tooInflated(g.out, g.in.n) {
-		return n, bombError(g.out, g.in.n)
+	if tooInflated(g.out, g.in.n, gzipFloor, gzipRatio) {
+		return n, bombError(g.out, g.in.n, gzipRatio)
 	}
 	return n, err
 }
 
-// tooInflated applies the limits of bombFloor to out bytes uncompressed from in.
-func tooInflated(out, in int64) bool {
-	return out > maxUnzipped || (out > bombFloor && out > bombRatio*in)
+// tooInflated says whether out bytes uncompressed from in pass the limits (see gzipFloor).
+func tooInflated(out, in, floor, ratio int64) bool {
+	return out > maxUnzipped || (out > floor && out > ratio*in)
 }
 
-func bombError(out, in int64) error {
+func bombError(out, in, ratio int64) error {
 	return &FileError{Code: FileTooLarge, Err: fmt.Errorf("the compressed content expands to more than %d MiB from %d KiB (a ratio above %d to 1, or beyond %d GiB), the mark of a compression bomb rather than a line list; the file was not read. Check where it came from, or decompress it yourself and read the plain file",
-		out>>20, in>>10, bombRatio, maxUnzipped>>30)}
+		out>>20, in>>10, ratio, maxUnzipped>>30)}
 }
 
 // sheetRef writes a sheet name as a cell reference does: quoted ('Region 2'!B7, with inner

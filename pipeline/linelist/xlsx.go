@@ -43,15 +43,23 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 	workbook := false
 	for _, f := range zr.File {
 		if f.UncompressedSize64 > maxUnzipped {
-			return bombError(maxUnzipped, int64(len(b)))
+			return bombError(maxUnzipped, int64(len(b)), zipRatio)
 		}
 		total += int64(f.UncompressedSize64)
 		if strings.EqualFold(f.Name, "xl/workbook.xml") {
 			workbook = true
 		}
 	}
-	if tooInflated(total, int64(len(b))) {
-		return bombError(total, int64(len(b)))
+	if tooInflated(total, int64(len(b)), zipFloor, zipRatio) {
+		return bombError(total, int64(len(b)), zipRatio)
+	}
+	// excelize reads an entry only as far as its declared size and ignores a sheet's XML
+	// errors, so an entry that inflates past its size or fails its checksum (a damaged or
+	// forged archive) would read as a short sheet; archive/zip checks both on a full read.
+	for _, f := range zr.File {
+		if err := checkEntry(f); err != nil {
+			return &FileError{Code: FileNotWorkbook, Err: fmt.Errorf("the workbook is damaged: its part %q does not match its declared size or checksum (%v); save it again from the spreadsheet program, or export CSV", clip(f.Name), err)}
+		}
 	}
 	if !workbook {
 		return &FileError{Code: FileNotWorkbook, Err: errors.New("the file is a zip archive but not an .xlsx workbook (it has no xl/workbook.xml; an OpenDocument .ods, or another archive?); save it from the spreadsheet program as .xlsx, or export CSV")}
@@ -111,6 +119,17 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 	return &FileError{Code: FileNoSheet, Err: fmt.Errorf("no sheet of the workbook (%s) has a row with the required columns case_id and onset_date among its first %d rows; choose the sheet with --sheet, or map the headers in the config (input.columns)", quoteList(sheets), headerSearchRows)}
 }
 
+// checkEntry reads a zip entry to its end, so archive/zip verifies its size and CRC-32.
+func checkEntry(f *zip.File) error {
+	rc, err := f.Open()
+	if err != nil {
+		return err
+	}
+	defer rc.Close()
+	_, err = io.Copy(io.Discard, rc)
+	return err
+}
+
 // pickSheet finds a sheet by its exact name, its name ignoring case, or its 1-based position.
 func pickSheet(sheets []string, want string) (string, bool) {
 	for _, s := range sheets {
@@ -158,7 +177,7 @@ func (rd *reader) findHeader(f *excelize.File, sheet string) (*excelize.Rows, sh
 		cells, err := rows.Columns(rawCells)
 		if err != nil {
 			rows.Close()
-			return nil, sheetHeader{}, &FileError{Line: n, Code: FileReadError, Err: fmt.Errorf("sheet %q row %d cannot be read (%v)", clip(sheet), n, err)}
+			return nil, sheetHeader{}, &FileError{Code: FileReadError, Err: fmt.Errorf("sheet %q row %d cannot be read (%v)", clip(sheet), n, err)}
 		}
 		if blankCells(cells) {
 			continue
@@ -170,7 +189,6 @@ func (rd *reader) findHeader(f *excelize.File, sheet string) (*excelize.Rows, sh
 		var fe *FileError
 		if errors.As(err, &fe) && fe.Code == FileAmbiguousColumn {
 			rows.Close()
-			fe.Line = n
 			fe.Err = fmt.Errorf("sheet %q row %d: %w", clip(sheet), n, fe.Err)
 			return nil, sheetHeader{}, fe
 		}
@@ -219,7 +237,7 @@ func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader) error {
 	for n := h.row + 1; rows.Next(); n++ {
 		cells, err := rows.Columns(rawCells)
 		if err != nil {
-			return &FileError{Line: n, Code: FileReadError, Err: fmt.Errorf("sheet %q row %d cannot be read (%v)", clip(src.Sheet), n, err)}
+			return &FileError{Code: FileReadError, Err: fmt.Errorf("sheet %q row %d cannot be read (%v)", clip(src.Sheet), n, err)}
 		}
 		if blankCells(cells) {
 			continue
@@ -244,7 +262,7 @@ func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader) error {
 		return &FileError{Code: FileReadError, Err: fmt.Errorf("sheet %q cannot be read to its end (%v)", clip(src.Sheet), err)}
 	}
 	if src.Rows == 0 {
-		return &FileError{Line: h.row, Code: FileNoDataRows, Err: fmt.Errorf("sheet %q has a header (row %d) but no data rows below it; check that the export included the cases", clip(src.Sheet), h.row)}
+		return &FileError{Code: FileNoDataRows, Err: fmt.Errorf("sheet %q has a header (row %d) but no data rows below it; check that the export included the cases", clip(src.Sheet), h.row)}
 	}
 	return nil
 }
