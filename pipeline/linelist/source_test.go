@@ -240,7 +240,7 @@ func TestWorkbookCells(t *testing.T) {
 	if strings.Join(got, "\n") != strings.Join(want, "\n") {
 		t.Errorf("cases\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
 	}
-	if ll.Rows != 4 || len(ll.Problems) != 1 || ll.Problems[0].Code != CodeBadDate || ll.Place(ll.Problems[0]) != "'Line list'!B4" {
+	if ll.Rows != 4 || len(ll.Problems) != 1 || ll.Problems[0].Code != CodeBadDate || ll.Place(ll.Problems[0]) != "'Line list'!B4" || !strings.Contains(ll.Problems[0].Message, "formula =B3+1 but no stored value") {
 		t.Errorf("rows %d, problems %v", ll.Rows, ll.Problems)
 	}
 	if s := ll.Sources[0]; s.Sheet != "Line list" || s.SheetReason != "the first sheet whose header has the required columns" {

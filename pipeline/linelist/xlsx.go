@@ -40,8 +40,11 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 	// The sizes a zip declares bind its entries: archive/zip fails an entry that inflates
 	// beyond its declared size, so the sum below bounds what excelize can unpack.
 	var total int64
-	workbook := false
+	workbook, smallSheets := false, true
 	for _, f := range zr.File {
+		if strings.HasPrefix(strings.ToLower(f.Name), "xl/worksheets/") && f.UncompressedSize64 > formulaLookupMax {
+			smallSheets = false
+		}
 		if f.UncompressedSize64 > maxUnzipped {
 			return bombError(maxUnzipped, int64(len(b)), zipRatio)
 		}
@@ -110,7 +113,11 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 			}
 		}
 		src.Sheet = name
-		err = rd.readSheet(rows, hdr)
+		var formulas *excelize.File
+		if smallSheets {
+			formulas = f
+		}
+		err = rd.readSheet(rows, hdr, formulas)
 		if cerr := rows.Close(); err == nil && cerr != nil {
 			err = readErr(cerr)
 		}
@@ -218,8 +225,14 @@ func blankCells(cells []string) bool {
 	return true
 }
 
-// readSheet turns the rows after the header into cases.
-func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader) error {
+// formulaLookupMax bounds the sheets whose formulas are looked up to explain a blank cell:
+// excelize loads the whole sheet for that, which costs several times its XML in memory.
+const formulaLookupMax = 8 << 20
+
+// readSheet turns the rows after the header into cases. With formulas (a workbook whose
+// sheets are at most formulaLookupMax bytes), a problem on a blank cell that is a formula
+// without a stored value says so.
+func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader, formulas *excelize.File) error {
 	src := rd.cur()
 	header := make([]string, len(h.cells))
 	for i, c := range h.cells {
@@ -256,7 +269,11 @@ func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader) error {
 		for _, i := range dates {
 			rec[i] = serialDate(rec[i], src.Date1904)
 		}
+		before := len(rd.ll.Problems)
 		rd.row(rec, n)
+		if formulas != nil {
+			rd.explainFormulas(formulas, rec, before)
+		}
 	}
 	if err := rows.Error(); err != nil {
 		return &FileError{Code: FileReadError, Err: fmt.Errorf("sheet %q cannot be read to its end (%v)", clip(src.Sheet), err)}
@@ -265,6 +282,27 @@ func (rd *reader) readSheet(rows *excelize.Rows, h sheetHeader) error {
 		return &FileError{Code: FileNoDataRows, Err: fmt.Errorf("sheet %q has a header (row %d) but no data rows below it; check that the export included the cases", clip(src.Sheet), h.row)}
 	}
 	return nil
+}
+
+// explainFormulas adds to each problem of the row just read (problems from index from on)
+// that concerns a blank cell what excelize says is the cell's formula, when it has one: a
+// formula saved without its value (by a program that does not calculate) reads as blank.
+func (rd *reader) explainFormulas(f *excelize.File, rec []string, from int) {
+	src := rd.cur()
+	for i := from; i < len(rd.ll.Problems); i++ {
+		p := &rd.ll.Problems[i]
+		ci, ok := columnIndex(p.Column)
+		if !ok || rd.idx[ci] < 0 || strings.TrimSpace(rec[rd.idx[ci]]) != "" {
+			continue
+		}
+		ref, err := excelize.CoordinatesToCellName(rd.idx[ci]+1, p.Row)
+		if err != nil {
+			continue
+		}
+		if fm, err := f.GetCellFormula(src.Sheet, ref); err == nil && fm != "" {
+			p.Message += fmt.Sprintf("; the cell holds the formula =%s but no stored value (the workbook was saved by a program that does not calculate): open it in a spreadsheet program, let it calculate, and save it again", clip(fm))
+		}
+	}
 }
 
 // lastFilled is the index of the last cell that is not blank, -1 if none.
