@@ -26,8 +26,9 @@ type Options struct {
 	MaxRows int
 	// Stdin is what the path StdinPath reads; nil means os.Stdin.
 	Stdin io.Reader
-	// Sheet chooses the worksheet of a workbook by name or by 1-based position; "" takes
-	// the only sheet, or the first whose header holds the required columns.
+	// Sheet chooses the worksheet of a workbook by name or by 1-based position, over
+	// Input.Sheet; when both are "" the only sheet, or the first whose header holds the
+	// required columns, is read.
 	Sheet string
 }
 
@@ -161,7 +162,8 @@ type reader struct {
 	in      InputConfig
 	asOf    Day
 	maxRows int
-	sheet   string // Options.Sheet
+	sheet   string // Options.Sheet, else Input.Sheet
+	sheetBy string // which of the two chose it, for Source.SheetReason
 	stdin   io.Reader
 	intern  map[string]string
 	strata  map[Strata]*Strata
@@ -171,12 +173,17 @@ type reader struct {
 }
 
 func newReader(opts Options) *reader {
+	sheet, by := opts.Sheet, "chosen with --sheet"
+	if sheet == "" && opts.Input.Sheet != "" {
+		sheet, by = opts.Input.Sheet, "chosen by input.sheet in the config"
+	}
 	return &reader{
+		sheetBy: by,
 		ll:      &LineList{},
 		in:      opts.Input,
 		asOf:    opts.AsOf,
 		maxRows: opts.MaxRows,
-		sheet:   opts.Sheet,
+		sheet:   sheet,
 		stdin:   opts.Stdin,
 		intern:  map[string]string{},
 		strata:  map[Strata]*Strata{},

@@ -252,6 +252,9 @@ func TestWorkbookCells(t *testing.T) {
 			t.Errorf("--sheet %s: %v", sheet, err)
 		}
 	}
+	if ll, err := ReadFile(p, Options{Input: InputConfig{Sheet: "Other"}}); err != nil || ll.Cases[0].ID != "Z" || ll.Sources[0].SheetReason != "chosen by input.sheet in the config" {
+		t.Errorf("input.sheet: %v", err)
+	}
 	var fe *FileError
 	if _, err := ReadFile(p, Options{Sheet: "3"}); !errors.As(err, &fe) || fe.Code != FileNoSheet || !strings.Contains(err.Error(), `"Line list", "Other"`) {
 		t.Errorf("--sheet 3: %v", err)

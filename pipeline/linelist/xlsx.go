@@ -89,7 +89,7 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 		if !ok {
 			return &FileError{Code: FileNoSheet, Err: fmt.Errorf("the workbook has no sheet %q; its sheets are %s; give --sheet a name or a position from 1 to %d", clip(rd.sheet), quoteList(sheets), len(sheets))}
 		}
-		candidates, src.SheetReason = []string{name}, "chosen with --sheet"
+		candidates, src.SheetReason = []string{name}, rd.sheetBy
 	case len(sheets) == 1:
 		candidates, src.SheetReason = sheets, "the only sheet"
 	default:
