@@ -17,7 +17,8 @@
 // the required columns. The header is the first of the top 100 rows whose cells map to the
 // canonical columns, so title rows above it are passed over. Cells are read as stored: a
 // formula as its cached value (one without is a blank cell, and a problem on it quotes the
-// formula: explainFormulas), a number in a date column as
+// formula: explainFormulas), a number in a date column (or text of digits alone: excelize
+// streams cell values without their types) as
 // a serial date in the workbook's date system (1900 or 1904; serialDate), text in a date
 // column by ParseDate in the configured order. Rows with no filled cell are not data rows;
 // a filled cell right of the header's last column is a field_count problem. Rows are
