@@ -134,7 +134,7 @@ func ReadFiles(paths []string, opts Options) (*LineList, error) {
 	ll, err := rd.finish()
 	var fe *FileError
 	if len(paths) == 1 && errors.As(err, &fe) {
-		fe.Path = paths[0]
+		fe.Path = rd.ll.Sources[0].Name()
 	}
 	return ll, err
 }

@@ -46,8 +46,9 @@ const (
 	zipRatio    = 200
 	maxUnzipped = 4 << 30
 	// maxWorkbook is the largest workbook file read: a zip archive is read into memory,
-	// as its directory sits at its end.
-	maxWorkbook = 1 << 30
+	// as its directory sits at its end, and excelize copies it once more. A sheet holds at
+	// most 1,048,576 rows, which compress to well under this.
+	maxWorkbook = 256 << 20
 )
 
 // Source describes one file read into a LineList.
