@@ -158,7 +158,7 @@ func TestWorkbookGauntlet(t *testing.T) {
 			}
 			code = ee.ExitCode()
 		}
-		peak := cmd.ProcessState.SysUsage().(*syscall.Rusage).Maxrss << 10 // Linux: KiB
+		peak := cmd.ProcessState.SysUsage().(*syscall.Rusage).Maxrss << 10        // Linux: KiB
 		t.Logf("%.1f s, peak resident memory %d MB", elapsed.Seconds(), peak>>20) // logged, not asserted
 		if peak >= 500<<20 {
 			t.Fatalf("peak memory %d MB, over 500 MB", peak>>20)
