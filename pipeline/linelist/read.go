@@ -253,7 +253,7 @@ func (rd *reader) readCSV(br *bufio.Reader, size int64) error {
 		prefix = bytes.ReplaceAll(prefix, []byte{'\r'}, []byte{'\n'})
 	}
 	if looksBinary(prefix) {
-		return &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)")}
+		return &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV or as an .xlsx workbook")}
 	}
 
 	var delim rune
