@@ -14,7 +14,7 @@
 //
 // A workbook is read with excelize, streaming the chosen sheet row by row: Options.Sheet
 // (a name, or a 1-based position), else the only sheet, else the first whose header holds
-// the required columns. The header is the first of the top 100 rows whose cells map to the
+// the required columns, visible sheets before hidden ones. The header is the first of the top 100 rows whose cells map to the
 // canonical columns, so title rows above it are passed over. Cells are read as stored: a
 // formula as its cached value (one without is a blank cell, and a problem on it quotes the
 // formula: explainFormulas), a number in a date column (or text of digits alone: excelize

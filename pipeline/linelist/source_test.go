@@ -259,6 +259,23 @@ func TestWorkbookCells(t *testing.T) {
 	if _, err := ReadFile(p, Options{Sheet: "3"}); !errors.As(err, &fe) || fe.Code != FileNoSheet || !strings.Contains(err.Error(), `"Line list", "Other"`) {
 		t.Errorf("--sheet 3: %v", err)
 	}
+	// A hidden sheet is passed over while a visible one has the columns.
+	f, err := excelize.OpenFile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f.SetActiveSheet(1) // the active sheet cannot be hidden
+	if err := f.SetSheetVisible("Line list", false); err != nil {
+		t.Fatal(err)
+	}
+	hid := filepath.Join(t.TempDir(), "hidden.xlsx")
+	if err := f.SaveAs(hid); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	if ll, err := ReadFile(hid, Options{}); err != nil || ll.Sources[0].Sheet != "Other" {
+		t.Errorf("hidden first sheet: %v %+v", err, ll.Sources)
+	}
 	// A value right of the header is a field_count problem on its row, as in a CSV file.
 	wide := buildWorkbook(t, true, [][2]any{{"S", [][]any{{"case_id", "onset_date"}, {"A", 0.0, nil, "x"}, {"B", 1.0}}}}, nil)
 	ll, err = ReadFile(writeTemp(t, "w.xlsx", wide), Options{})

@@ -93,7 +93,16 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 	case len(sheets) == 1:
 		candidates, src.SheetReason = sheets, "the only sheet"
 	default:
-		candidates = sheets
+		// Visible sheets first: a hidden one is more often a lookup table than the list.
+		var hidden []string
+		for _, name := range sheets {
+			if v, err := f.GetSheetVisible(name); err == nil && !v {
+				hidden = append(hidden, name)
+			} else {
+				candidates = append(candidates, name)
+			}
+		}
+		candidates = append(candidates, hidden...)
 	}
 	var skipped []string
 	for _, name := range candidates {
@@ -108,6 +117,9 @@ func (rd *reader) readWorkbook(br *bufio.Reader) error {
 		}
 		if src.SheetReason == "" {
 			src.SheetReason = "the first sheet whose header has the required columns"
+			if v, err := f.GetSheetVisible(name); err == nil && !v {
+				src.SheetReason = "the first sheet whose header has the required columns, a hidden one, as no visible sheet has them"
+			}
 			if len(skipped) > 0 {
 				src.SheetReason += "; passed over " + quoteList(skipped)
 			}
