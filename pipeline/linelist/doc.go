@@ -12,17 +12,17 @@
 // FileError with Code FileEncrypted; anything else is delimited text (see Bytes). A Source
 // records what was read, with a Note where the name promised another format.
 //
-// A workbook is read with excelize, streaming the chosen sheet row by row: Options.Sheet
-// (a name, or a 1-based position), else the only sheet, else the first whose header holds
-// the required columns, visible sheets before hidden ones. The header is the first of the top 100 rows whose cells map to the
-// canonical columns, so title rows above it are passed over. Cells are read as stored: a
-// formula as its cached value (one without is a blank cell, and a problem on it quotes the
-// formula: explainFormulas), a number in a date column (or text of digits alone: excelize
-// streams cell values without their types) as
-// a serial date in the workbook's date system (1900 or 1904; serialDate), text in a date
-// column by ParseDate in the configured order. Rows with no filled cell are not data rows;
-// a filled cell right of the header's last column is a field_count problem. Rows are
-// numbered as the spreadsheet shows them, and LineList.Place gives "Cases!C12".
+// A workbook is read with excelize, streaming the chosen sheet row by row: Options.Sheet (a
+// name, or a 1-based position), else the only sheet, else the first whose header holds the
+// required columns, visible sheets before hidden ones. The header is the first of the top
+// 100 rows whose cells map to the canonical columns, so title rows above it are passed
+// over. Cells are read as stored: a formula as its cached value (one without is a blank
+// cell, and a problem on it quotes the formula: explainFormulas), a number in a date column
+// (or text of digits alone: excelize streams cell values without their types) as a serial
+// date in the workbook's date system (1900 or 1904; serialDate), text in a date column by
+// ParseDate in the configured order. Rows with no filled cell are not data rows; a filled
+// cell right of the header's last column is a field_count problem. Rows are numbered as the
+// spreadsheet shows them, and LineList.Place gives "Cases!C12".
 //
 // Compressed content is bounded (gzipFloor and the constants beside it), so a compression
 // bomb is a FileError with Code FileTooLarge rather than an exhausted machine.
