@@ -1,7 +1,9 @@
 package linelist
 
 import (
+	"encoding/csv"
 	"fmt"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -105,6 +107,29 @@ func TestSerialDate(t *testing.T) {
 			if got, want := serialDate(fmt.Sprint(n), date1904), tm.Format("2006-01-02"); got != want {
 				t.Fatalf("serial %d (1904=%v): %s, excelize %s", n, date1904, got, want)
 			}
+		}
+	}
+}
+
+// Serial dates against openpyxl's from_excel (a Python implementation, independent of
+// excelize), in both date systems up to 9999-12-31: serials.csv, written by serials.py
+// beside it with Debian 12's python3-openpyxl 3.0.9.
+func TestSerialDateAgainstOpenpyxl(t *testing.T) {
+	f, err := os.Open(filepath.Join(workbookDir, "serials.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) < 7000 {
+		t.Fatalf("%d reference rows", len(recs))
+	}
+	for _, r := range recs[1:] {
+		if got := serialDate(r[1], r[0] == "1904"); got != r[2] {
+			t.Errorf("serial %s, %s system: %s, openpyxl %s", r[1], r[0], got, r[2])
 		}
 	}
 }
