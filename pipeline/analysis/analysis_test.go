@@ -44,7 +44,7 @@ func outbreak(t *testing.T, R, k float64, index int, seed uint64, untilDate stri
 
 func analyse(t *testing.T, cases []linelist.Case, o Options) *Summary {
 	t.Helper()
-	ll := &linelist.LineList{Cases: cases, Rows: len(cases), SHA256: "test"}
+	ll := &linelist.LineList{Cases: cases, Rows: len(cases), Sources: []linelist.Source{{Path: "test.csv", SHA256: "test", Rows: len(cases), Used: len(cases)}}}
 	s, err := Run("test.csv", ll, forest.Build(cases), o)
 	if err != nil {
 		t.Fatal(err)

@@ -68,31 +68,59 @@ type RunSettings struct {
 	Pseudonymised    bool    `json:"pseudonymised"`  // identifiers replaced (a released view)
 }
 
-// Input describes the file read. Rows = Used + Rejected always.
+// Input describes what was read: Path and SHA256 are those of the file when one was read
+// ("" for SHA256 when several were), and Files lists every file. Rows = Used + Rejected
+// always, in total and for each file.
 type Input struct {
-	Path     string `json:"path"`
-	SHA256   string `json:"sha256"`
-	Rows     int    `json:"rows"`
-	Used     int    `json:"used"`
-	Rejected int    `json:"rejected"`
+	Path     string      `json:"path"`
+	SHA256   string      `json:"sha256"`
+	Rows     int         `json:"rows"`
+	Used     int         `json:"used"`
+	Rejected int         `json:"rejected"`
+	Files    []InputFile `json:"files"`
 }
 
-// Problem is one thing wrong with the input: Row is the physical line of the file (header =
-// line 1; 0 for the file as a whole), Column the canonical column concerned ("" for the row).
+// InputFile is one file read: its format ("csv" or "xlsx", Gzip when it was compressed),
+// the workbook sheet chosen and why, the header's line or spreadsheet row, and its rows.
+// With several files (often one per region) the row counts are a count by place, so a
+// released view withholds small ones (null); Rows = Used + Rejected where all are shown.
+type InputFile struct {
+	Path        string `json:"path"`
+	SHA256      string `json:"sha256"`
+	Format      string `json:"format"`
+	Gzip        bool   `json:"gzip"`
+	Sheet       string `json:"sheet,omitempty"`
+	SheetReason string `json:"sheet_reason,omitempty"`
+	DateSystem  string `json:"date_system,omitempty"` // "1900" or "1904", workbooks only
+	HeaderRow   int    `json:"header_row"`
+	Note        string `json:"note,omitempty"` // where the name and the content disagree
+	Rows        *int   `json:"rows"`
+	Used        *int   `json:"used"`
+	Rejected    *int   `json:"rejected"`
+}
+
+// Problem is one thing wrong with the input: File is the file it is in, Row the physical
+// line of a CSV file (header = line 1) or the spreadsheet row of a workbook (0 for the file
+// as a whole), Place the same in the analyst's words ("line 12", "Cases!C12"), Column the
+// canonical column concerned ("" for the row).
 type Problem struct {
+	File     string            `json:"file"`
 	Row      int               `json:"row"`
+	Place    string            `json:"place"`
 	Column   string            `json:"column"`
 	Code     linelist.Code     `json:"code"`
 	Severity linelist.Severity `json:"severity"`
 	Message  string            `json:"message"`
 }
 
-// ProblemCount is the tally of one problem code, with the first few line numbers.
+// ProblemCount is the tally of one problem code, with the first few line numbers and their
+// places (preceded by the file's base name when several files were read).
 type ProblemCount struct {
-	Code      linelist.Code     `json:"code"`
-	Severity  linelist.Severity `json:"severity"`
-	Count     int               `json:"count"`
-	FirstRows []int             `json:"first_rows"`
+	Code        linelist.Code     `json:"code"`
+	Severity    linelist.Severity `json:"severity"`
+	Count       int               `json:"count"`
+	FirstRows   []int             `json:"first_rows"`
+	FirstPlaces []string          `json:"first_places"`
 }
 
 // Tree holds the transmission forest's statistics. Linked counts cases with a kept infector
