@@ -26,7 +26,7 @@ func ScreenshotElement(ctx context.Context, html []byte, selector string) ([]byt
 	if err != nil {
 		return nil, err
 	}
-	rect, err := chromedp.Run(s.ctx, chromedp.Evaluate[[]float64](`(function(){ var el = document.querySelector(` + string(sel) + `);
+	rect, err := chromedp.Run(s.ctx, chromedp.Evaluate[[]float64](`(function(){ var el = document.querySelector(`+string(sel)+`);
   if (!el) { return []; }
   var r = el.getBoundingClientRect();
   return [r.left + window.scrollX, r.top + window.scrollY, r.width, r.height]; })()`))
