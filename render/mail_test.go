@@ -2,28 +2,11 @@ package render
 
 import (
 	"errors"
-	"regexp"
 	"strings"
 	"testing"
+
+	"github.com/caseweave/caseweave/internal/smtptest"
 )
-
-// externalRef matches, inside a tag, what would make a mail client fetch or run anything: a
-// script, a style sheet or frame, an event handler, a URL in CSS, and any src or href that is
-// not a Content-ID of the message itself.
-var externalRef = regexp.MustCompile(`(?i)^<(?:script|link|iframe|object|embed|style|form|base)|\son[a-z]+\s*=|url\(|@import|\s(?:src|href|background|action|srcset)\s*=\s*"(?:[^c"]|c[^i]|ci[^d]|cid[^:])`)
-
-// htmlTag matches a tag: text in the HTML part has its "<" escaped.
-var htmlTag = regexp.MustCompile(`<[^>]*>`)
-
-// referenceOut returns the first tag of page that refers outside the message, or "".
-func referenceOut(page []byte) string {
-	for _, tag := range htmlTag.FindAll(page, -1) {
-		if externalRef.Match(tag) {
-			return string(tag)
-		}
-	}
-	return ""
-}
 
 func TestMailCarriesTheReportNumbersInBothParts(t *testing.T) {
 	s := fixtureSummary()
@@ -50,10 +33,10 @@ func TestMailCarriesTheReportNumbersInBothParts(t *testing.T) {
 			t.Errorf("HTML part lacks %q", want)
 		}
 	}
-	if tag := referenceOut(m.HTML); tag != "" {
+	if tag := smtptest.ExternalReference(m.HTML); tag != "" {
 		t.Errorf("HTML part refers outside the message: %s", tag)
 	}
-	if referenceOut([]byte(`<p><img src="https://x.example/a.png"></p>`)) == "" || referenceOut([]byte(`<script>`)) == "" {
+	if smtptest.ExternalReference([]byte(`<p><img src="https://x.example/a.png"></p>`)) == "" || smtptest.ExternalReference([]byte(`<script>`)) == "" {
 		t.Error("the check misses an external image or a script")
 	}
 	if !strings.Contains(string(m.HTML), `src="cid:epicurve.1@caseweave"`) {
@@ -85,7 +68,7 @@ func TestMailEscapesHostileData(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if tag := referenceOut(m.HTML); tag != "" {
+	if tag := smtptest.ExternalReference(m.HTML); tag != "" {
 		t.Errorf("hostile data became markup: %s", tag)
 	}
 	if strings.ContainsAny(m.Subject, "\r\n") || !strings.Contains(m.Subject, "</script><script>alert(2)</script>") {
