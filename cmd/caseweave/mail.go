@@ -91,6 +91,13 @@ type outgoing struct {
 	msg  *deliver.Message
 }
 
+// mailSource is one report to mail: its released view and the files to attach.
+type mailSource struct {
+	slug      string
+	rel       *analysis.Released
+	html, pdf []byte
+}
+
 func (f *mailFlags) run(e env, dir string) error {
 	if f.dryRun == "" {
 		if _, err := f.serverConfig(); err != nil { // flags first: nothing is built for a bad command line
@@ -101,19 +108,49 @@ func (f *mailFlags) run(e env, dir string) error {
 	if err != nil {
 		return err
 	}
-	now := messageDate()
-	var out []outgoing
+	var srcs []mailSource
 	for _, slug := range slugs {
-		m, err := f.build(e, dir, slug, now)
+		src, err := readSource(dir, slug)
 		if err != nil {
 			return fmt.Errorf("%s: %w", slug, err)
 		}
-		out = append(out, outgoing{slug, m})
+		srcs = append(srcs, src)
+	}
+	return f.deliver(e, dir, srcs)
+}
+
+// deliver builds each report's message and writes (--dry-run) or sends them; dir is the
+// report folder, which keeps the send log.
+func (f *mailFlags) deliver(e env, dir string, srcs []mailSource) error {
+	now := messageDate()
+	var out []outgoing
+	for _, src := range srcs {
+		m, err := f.build(e, src, now)
+		if err != nil {
+			return fmt.Errorf("%s: %w", src.slug, err)
+		}
+		out = append(out, outgoing{src.slug, m})
 	}
 	if f.dryRun != "" {
 		return f.writeDryRun(e, dir, out)
 	}
 	return f.send(e, dir, out)
+}
+
+// readSource reads one report of a report --by folder.
+func readSource(dir, slug string) (mailSource, error) {
+	src := mailSource{slug: slug}
+	var err error
+	if src.rel, err = releasedFrom(filepath.Join(dir, slug+".json")); err != nil {
+		return src, err
+	}
+	if src.html, err = os.ReadFile(filepath.Join(dir, slug+".html")); err != nil {
+		return src, withCode(exitInput, err)
+	}
+	if pdf, err := os.ReadFile(filepath.Join(dir, slug+".pdf")); err == nil {
+		src.pdf = pdf
+	}
+	return src, nil
 }
 
 // reportSlugs lists the reports of a report --by folder: each <slug>.json with its
@@ -138,10 +175,12 @@ func reportSlugs(dir string) ([]string, error) {
 	return slugs, nil
 }
 
-// releasedFrom reads a report's JSON, which is a released view, and releases it again under
-// its own threshold, so the mail, like every stakeholder output, is made from an
-// *analysis.Released. Identifiers are already pseudonyms; releasing a released view changes
-// no figure (TestMailReleasesTheReportsView).
+// releasedFrom reads a report's JSON and releases it again under its own threshold, so the
+// mail, like every stakeholder output, is made from an *analysis.Released even when the file
+// is not what report wrote (an --internal-json document, an edited file). Releasing a
+// released view shows nothing it withheld and withholds a little more: the strata's mean
+// offspring, whose case counts the released view no longer carries
+// (TestMailReleasesTheReportsView). report --mail mails the views it made instead.
 func releasedFrom(path string) (*analysis.Released, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -182,11 +221,8 @@ func (f *mailFlags) mailTemplate(slug string) (fs.FS, render.Config, error) {
 }
 
 // build makes one report's message.
-func (f *mailFlags) build(e env, dir, slug string, date time.Time) (*deliver.Message, error) {
-	rel, err := releasedFrom(filepath.Join(dir, slug+".json"))
-	if err != nil {
-		return nil, err
-	}
+func (f *mailFlags) build(e env, src mailSource, date time.Time) (*deliver.Message, error) {
+	slug, rel := src.slug, src.rel
 	fsys, cfg, err := f.mailTemplate(slug)
 	if err != nil {
 		return nil, err
@@ -198,14 +234,9 @@ func (f *mailFlags) build(e env, dir, slug string, date time.Time) (*deliver.Mes
 	if cfg.Mail.From == nil || len(cfg.Mail.To) == 0 {
 		return nil, withCode(exitInput, errors.New("no sender or recipients: set mail.from and mail.to in the config.yaml of its template folder (--template)"))
 	}
-	html, err := os.ReadFile(filepath.Join(dir, slug+".html"))
-	if err != nil {
-		return nil, withCode(exitInput, err)
-	}
-	attach := []deliver.File{{Name: slug + ".html", ContentType: "text/html", Data: html}}
-	pdfName := slug + ".pdf"
-	if pdf, err := os.ReadFile(filepath.Join(dir, pdfName)); err == nil {
-		attach = append(attach, deliver.File{Name: pdfName, ContentType: "application/pdf", Data: pdf})
+	attach := []deliver.File{{Name: slug + ".html", ContentType: "text/html", Data: src.html}}
+	if src.pdf != nil {
+		attach = append(attach, deliver.File{Name: slug + ".pdf", ContentType: "application/pdf", Data: src.pdf})
 	}
 	opts := render.MailOptions{Templates: fsys, Config: &cfg,
 		ChartNote: "The chart is in the attached report, " + slug + ".html (open it in a web browser)."}

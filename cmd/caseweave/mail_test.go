@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"encoding/json"
 	"fmt"
 	"html"
 	"mime"
@@ -292,5 +293,62 @@ func TestMailDryRunOfTheDemo(t *testing.T) {
 	eml, _ := os.ReadFile(filepath.Join(noimg, "ostvale.eml"))
 	if _, htm, _ := mailParts(t, eml); strings.Contains(htm, "<img") || !strings.Contains(htm, "The chart is in the attached report, ostvale.html") {
 		t.Error("without a picture the HTML part should say where the chart is")
+	}
+}
+
+// caseweave mail makes its view from the report's released JSON, released once more under
+// its own threshold: every figure is the report's or withheld, and only the strata's mean
+// offspring (whose case counts the released JSON does not carry) are withheld anew.
+func TestMailReleasesTheReportsView(t *testing.T) {
+	dir := demoBatch(t)
+	for slug := range demoRecipients {
+		path := filepath.Join(dir, slug+".json")
+		rel, err := releasedFrom(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		again, err := marshalJSON(rel.Summary())
+		if err != nil {
+			t.Fatal(err)
+		}
+		want, _ := os.ReadFile(path)
+		var a, w any
+		if err := json.Unmarshal(again, &a); err != nil {
+			t.Fatal(err)
+		}
+		json.Unmarshal(want, &w)
+		var changed []string
+		var walk func(p string, a, w any)
+		walk = func(p string, a, w any) {
+			switch wv := w.(type) {
+			case map[string]any:
+				am, _ := a.(map[string]any)
+				for k := range wv {
+					walk(p+"."+k, am[k], wv[k])
+				}
+			case []any:
+				as, _ := a.([]any)
+				if len(as) != len(wv) {
+					changed = append(changed, p+" (length)")
+					return
+				}
+				for i := range wv {
+					walk(p+"[]", as[i], wv[i])
+				}
+			default:
+				if fmt.Sprint(a) != fmt.Sprint(w) {
+					if a != nil {
+						t.Errorf("%s: %s is %v in the mail's view, %v in the report", slug, p, a, w)
+					}
+					changed = append(changed, p)
+				}
+			}
+		}
+		walk("", a, w)
+		for _, c := range changed {
+			if c != ".strata[].mean_offspring" {
+				t.Errorf("%s: %s withheld anew", slug, c)
+			}
+		}
 	}
 }

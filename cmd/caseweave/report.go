@@ -161,7 +161,11 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 		return err
 	}
 	if f.mail {
-		return f.mailFlags.run(e, f.batchDir())
+		srcs := make([]mailSource, len(pages))
+		for i, p := range pages {
+			srcs[i] = mailSource{slug: p.slug, rel: p.released, html: p.html, pdf: p.pdf}
+		}
+		return f.mailFlags.deliver(e, f.batchDir(), srcs)
 	}
 	return nil
 }
