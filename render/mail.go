@@ -6,7 +6,6 @@ import (
 	"html/template"
 	"io/fs"
 	"strings"
-	"testing/fstest"
 
 	"github.com/yuin/goldmark"
 	"github.com/yuin/goldmark/ast"
@@ -18,7 +17,6 @@ import (
 	"github.com/yuin/goldmark/util"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
-	"github.com/caseweave/caseweave/templates"
 )
 
 // MailTemplate is the template of a report's cover mail in a template folder. It defines
@@ -119,16 +117,29 @@ func RenderMail(r *analysis.Released, opts MailOptions) (*Mail, error) {
 }
 
 // ChartPage renders a page holding only the named chart, for a headless browser to take its
-// picture: the report's own chart, drawn from the same released view.
+// picture: the report's own chart, drawn from the same released view, in the default style.
 func ChartPage(r *analysis.Released, name string, cfg *Config) ([]byte, error) {
-	if !isChartName(name) {
-		return nil, errors.New("render: unknown chart " + name)
+	if r == nil {
+		return nil, errors.New("render: no released summary")
 	}
-	page := fstest.MapFS{MainTemplate: {Data: []byte(`{{ chart "` + name + `" }}`)}}
-	if css, err := fs.ReadFile(templates.Default(), StyleFile); err == nil {
-		page[StyleFile] = &fstest.MapFile{Data: css}
+	fsys, c, err := folderConfig(nil, cfg)
+	if err != nil {
+		return nil, err
 	}
-	return Render(r, Options{Templates: page, Config: cfg})
+	st := &renderState{s: r.Summary(), cfg: c}
+	md, err := st.fnChart(name)
+	if err != nil {
+		return nil, err
+	}
+	body, err := st.markdownToHTML([]byte(md))
+	if err != nil {
+		return nil, err
+	}
+	css, err := loadCSS(fsys)
+	if err != nil {
+		return nil, err
+	}
+	return pageHTML(st, body, css)
 }
 
 // HasChart reports whether the released view has data for the named chart.
