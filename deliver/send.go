@@ -21,8 +21,9 @@ const (
 	StartTLS Security = iota
 	// ImplicitTLS speaks TLS from the first byte (RFC 8314 §3). Usually port 465.
 	ImplicitTLS
-	// Plain sends everything, the password included, unencrypted: only on an explicit
-	// request for a server on a trusted network.
+	// Plain sends the messages unencrypted: only on an explicit request, for a relay on a
+	// trusted network. A login then uses only a mechanism that does not send the password
+	// itself (SCRAM, NTLM, CRAM-MD5; go-mail's discovery), never PLAIN or LOGIN.
 	Plain
 )
 
@@ -41,9 +42,9 @@ type Server struct {
 	Host     string
 	Port     int
 	Security Security
-	// Username and Password authenticate when Username is set. The password is sent only
-	// inside TLS (the SMTP client refuses to send it in the clear except to localhost) and
-	// is never written anywhere.
+	// Username and Password authenticate when Username is set, with the strongest mechanism
+	// the server offers (go-mail's discovery: over an unencrypted connection, none that sends
+	// the password itself). The password is never written anywhere.
 	Username string
 	Password string
 	// TLS is the TLS configuration; nil verifies the server against the system's roots.

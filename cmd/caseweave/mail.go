@@ -56,7 +56,7 @@ func (f *mailFlags) register(c *cobra.Command, withTemplate bool) {
 	fl.StringVar(&f.dryRun, "dry-run", "", "write each message as DIR/<report>.eml instead of sending")
 	fl.StringVar(&f.server, "smtp", "", "SMTP server as HOST:PORT (port 587 uses STARTTLS, 465 TLS)")
 	fl.StringVar(&f.security, "smtp-security", "", "starttls or tls (default: tls on port 465, starttls otherwise); the connection is always encrypted unless --insecure-smtp")
-	fl.BoolVar(&f.insecure, "insecure-smtp", false, "send WITHOUT encryption: the messages and the password cross the network readable by anyone on the way; only for a relay on a trusted network")
+	fl.BoolVar(&f.insecure, "insecure-smtp", false, "send WITHOUT encryption: the messages cross the network readable by anyone on the way (a login then uses no mechanism that sends the password itself); only for a relay on a trusted network")
 	fl.StringVar(&f.user, "smtp-user", "", "user name for SMTP authentication (the password is read from --password-env or --password-file)")
 	fl.StringVar(&f.passwordEnv, "password-env", defaultPasswordEnv, "environment variable holding the SMTP password")
 	fl.StringVar(&f.passwordFile, "password-file", "", "file holding the SMTP password, readable by its owner only (chmod 600)")
@@ -377,7 +377,7 @@ func (f *mailFlags) send(e env, dir string, out []outgoing) error {
 		return err
 	}
 	if srv.Security == deliver.Plain {
-		fmt.Fprintf(e.stderr, "warning: --insecure-smtp: sending to %s without encryption\n", f.server)
+		fmt.Fprintf(e.stderr, "warning: --insecure-smtp: sending to %s without encryption; the messages can be read on the way\n", f.server)
 	}
 	logPath := filepath.Join(dir, deliver.LogFile)
 	log, err := deliver.ReadLog(logPath)

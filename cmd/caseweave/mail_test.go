@@ -199,6 +199,23 @@ func TestMailRefusesUnsafeSettings(t *testing.T) {
 	if code != exitMail || len(plain.Received()) != 0 || !strings.Contains(stdout, "STARTTLS") {
 		t.Errorf("a server without TLS: exit %d, %d sent\n%s", code, len(plain.Received()), stdout)
 	}
+	// --insecure-smtp sends without TLS, saying so, and only when asked.
+	open2 := smtptest.Start(t, smtptest.NoTLS, "", "")
+	code, stdout, stderr = cli(t, "mail", "--template", mailTemplates, "--smtp", open2.Addr(), "--no-chart-image", dir)
+	if code != exitMail || len(open2.Received()) != 0 {
+		t.Errorf("without --insecure-smtp a server without TLS was used: exit %d, %d sent", code, len(open2.Received()))
+	}
+	code, stdout, stderr = cli(t, "mail", "--template", mailTemplates, "--smtp", open2.Addr(), "--insecure-smtp", "--no-chart-image", dir)
+	if code != 0 || len(open2.Received()) != 9 || open2.Received()[0].Encrypted || !strings.Contains(stderr, "without encryption") {
+		t.Errorf("--insecure-smtp: exit %d, %d sent\n%s%s", code, len(open2.Received()), stdout, stderr)
+	}
+	// A login over plain text never sends the password itself: this server offers only PLAIN.
+	clear := smtptest.Start(t, smtptest.NoTLSPlainAuth, "analyst", "pw-123456")
+	os.Remove(filepath.Join(dir, deliver.LogFile)) // the messages went above; send them again
+	code, stdout, _ = cli(t, "mail", "--template", mailTemplates, "--smtp", clear.Addr(), "--insecure-smtp", "--smtp-user", "analyst", "--password-env", "CASEWEAVE_TEST_PW", "--no-chart-image", dir)
+	if code != exitMail || len(clear.Received()) != 0 || clear.AuthFailures() != 0 || clear.Logins() != 0 {
+		t.Errorf("PLAIN over plain text: exit %d, %d sent, %d logins\n%s", code, len(clear.Received()), clear.Logins(), stdout)
+	}
 	if code, _, stderr := cli(t, "mail", "--template", mailTemplates, "--smtp", srv.Addr(), "--insecure-smtp", "--smtp-security", "tls", dir); code != exitUsage {
 		t.Errorf("--insecure-smtp with --smtp-security: exit %d: %s", code, stderr)
 	}

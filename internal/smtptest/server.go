@@ -49,6 +49,7 @@ type Server struct {
 	reject   map[string]bool
 	received []Received
 	authFail int
+	logins   int
 }
 
 // Mode is how the server protects connections.
@@ -58,10 +59,11 @@ const (
 	StartTLS Mode = iota // offers STARTTLS; AUTH only after it
 	Implicit             // TLS from the first byte
 	NoTLS                // offers no TLS at all (and so no AUTH)
+	NoTLSPlainAuth       // offers no TLS, and PLAIN authentication in the clear
 )
 
-// Start starts a server on a free loopback port with a fresh certificate. It stops when the
-// test ends.
+// Start starts a server on a free loopback port with a fresh certificate; with a user, MAIL
+// needs a login first. It stops when the test ends.
 func Start(t testing.TB, mode Mode, user, secret string) *Server {
 	t.Helper()
 	cert, certPEM := selfSigned(t)
@@ -75,10 +77,10 @@ func Start(t testing.TB, mode Mode, user, secret string) *Server {
 	srv.ReadTimeout, srv.WriteTimeout = 20*time.Second, 20*time.Second
 	srv.MaxMessageBytes = 64 << 20
 	tlsConfig := &tls.Config{Certificates: []tls.Certificate{cert}, MinVersion: tls.VersionTLS12}
-	if mode != NoTLS {
+	if mode == StartTLS || mode == Implicit {
 		srv.TLSConfig = tlsConfig
 	}
-	srv.AllowInsecureAuth = false
+	srv.AllowInsecureAuth = mode == NoTLSPlainAuth
 	l, err := net.Listen("tcp", "127.0.0.1:0")
 	if err != nil {
 		t.Fatal(err)
@@ -116,6 +118,13 @@ func (s *Server) Reset() {
 	s.received = nil
 }
 
+// Logins counts the logins attempted (the password reached the server), refused or not.
+func (s *Server) Logins() int {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.logins
+}
+
 // AuthFailures counts refused logins.
 func (s *Server) AuthFailures() int {
 	s.mu.Lock()
@@ -134,6 +143,9 @@ func (ss *session) AuthMechanisms() []string { return []string{sasl.Plain} }
 
 func (ss *session) Auth(mech string) (sasl.Server, error) {
 	return sasl.NewPlainServer(func(_, username, password string) error {
+		ss.s.mu.Lock()
+		ss.s.logins++
+		ss.s.mu.Unlock()
 		if username != ss.s.User || password != ss.s.Secret {
 			ss.s.mu.Lock()
 			ss.s.authFail++
@@ -146,7 +158,7 @@ func (ss *session) Auth(mech string) (sasl.Server, error) {
 }
 
 func (ss *session) Mail(from string, _ *smtp.MailOptions) error {
-	if ss.user == "" {
+	if ss.s.User != "" && ss.user == "" {
 		return smtp.ErrAuthRequired
 	}
 	ss.cur = Received{From: from, User: ss.user}
