@@ -56,10 +56,10 @@ type Server struct {
 type Mode int
 
 const (
-	StartTLS Mode = iota // offers STARTTLS; AUTH only after it
-	Implicit             // TLS from the first byte
-	NoTLS                // offers no TLS at all (and so no AUTH)
-	NoTLSPlainAuth       // offers no TLS, and PLAIN authentication in the clear
+	StartTLS       Mode = iota // offers STARTTLS; AUTH only after it
+	Implicit                   // TLS from the first byte
+	NoTLS                      // offers no TLS at all (and so no AUTH)
+	NoTLSPlainAuth             // offers no TLS, and PLAIN authentication in the clear
 )
 
 // Start starts a server on a free loopback port with a fresh certificate; with a user, MAIL
