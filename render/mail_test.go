@@ -4,8 +4,11 @@ import (
 	"errors"
 	"strings"
 	"testing"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/caseweave/caseweave/internal/smtptest"
+	"github.com/caseweave/caseweave/pipeline/analysis"
 )
 
 func TestMailCarriesTheReportNumbersInBothParts(t *testing.T) {
@@ -119,4 +122,44 @@ func TestChartPageDrawsOnlyTheChart(t *testing.T) {
 	if !HasChart(released(fixtureSummary()), "epicurve") || HasChart(released(minimalSummary()), "epicurve") {
 		t.Error("HasChart does not follow the epidemic curve's data")
 	}
+}
+
+// foldSpace is s as escapeMarkdown leaves its words: runs of spaces and control characters
+// as one space, trimmed.
+func foldSpace(s string) string {
+	return strings.Join(strings.FieldsFunc(s, func(r rune) bool { return unicode.IsSpace(r) || unicode.IsControl(r) }), " ")
+}
+
+// Whatever the data, the mail's HTML part runs no script and refers to nothing outside the
+// message, the subject stays one line, and both the subject and the plain part show a
+// jurisdiction's name as written.
+func FuzzMail(f *testing.F) {
+	f.Add("Ostvale", "household", "cases.csv", 0.8, 12, int32(19806))
+	f.Add(`<img src=x onerror=alert(1)>`, `</script><script>alert(1)</script>`, `"'><svg onload=alert(1)>`, 1e300, -3, int32(0))
+	f.Add("Subject: x\r\nBcc: all@example.org", "[x](javascript:alert(1))", "![i](http://x.example/p.png)", 2.5, 0, int32(-719528))
+	f.Add("a | b\n# h\n\n```caseweave-block\n1\n```", "\x00\x01\x1b[31m", "\xff\xfe\xc3(", 123456789.123, 1<<40, int32(2932896))
+	f.Add("<!-- x --> &amp; &#60; =?utf-8?q?x?=", "*a* _b_ ~c~", "cid:x", 4.0, 4, int32(20000))
+	f.Fuzz(func(t *testing.T, a, b, c string, x float64, n int, d int32) {
+		rel, err := analysis.Release(fuzzSummary(b, c, c, x, n, d), analysis.Policy{})
+		if err != nil {
+			return // non-finite numbers; FuzzTemplateFunctions covers the release
+		}
+		cfg := DefaultConfig()
+		cfg.Jurisdiction, cfg.Contact = a, b
+		m, err := RenderMail(rel, MailOptions{Config: &cfg, Images: map[string]string{"epicurve": "e@t"}, ChartNote: c})
+		if err != nil {
+			t.Fatalf("mail of a released view failed: %v", err)
+		}
+		if tag := smtptest.ExternalReference(m.HTML); tag != "" {
+			t.Fatalf("the HTML part refers outside the message: %s", tag)
+		}
+		if strings.ContainsAny(m.Subject, "\r\n") {
+			t.Fatalf("subject %q spans lines", m.Subject)
+		}
+		if name := foldSpace(a); utf8.ValidString(a) && name != "" {
+			if !strings.Contains(m.Subject, name) || !strings.Contains(foldSpace(m.Text), name) {
+				t.Fatalf("jurisdiction %q not shown as written: subject %q", name, m.Subject)
+			}
+		}
+	})
 }
