@@ -2,8 +2,10 @@ package main
 
 import (
 	"context"
+	"crypto/sha256"
 	"crypto/tls"
 	"crypto/x509"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -242,7 +244,9 @@ func (f *mailFlags) build(e env, src mailSource, date time.Time) (*deliver.Messa
 		ChartNote: "The chart is in the attached report, " + slug + ".html (open it in a web browser)."}
 	var inline []deliver.File
 	if png := f.chartImage(e, slug, rel, &cfg); png != nil {
-		cid := "epicurve." + slug + "@caseweave"
+		// A Content-ID is ASCII (RFC 2392); a report's name may not be.
+		sum := sha256.Sum256([]byte(slug))
+		cid := "epicurve." + hex.EncodeToString(sum[:6]) + "@caseweave.invalid"
 		opts.Images = map[string]string{"epicurve": cid}
 		inline = append(inline, deliver.File{Name: "epicurve.png", ContentType: "image/png", Data: png, ContentID: cid})
 	}
