@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"net/mail"
 	"os"
 	"regexp"
 	"slices"
@@ -70,6 +71,11 @@ func SectionNames() []string {
 //	caution: "Paragraphs separated by blank lines."
 //	incubation_days: 14        # longest incubation period, for the rule of thumb
 //	pseudonym_key: "…"         # keys the hash that replaces case identifiers
+//	mail:                      # the cover mail of `caseweave mail` (see MailConfig)
+//	  from: "Epi desk <epi@ostvale.example>"
+//	  to: ["lead@ostvale.example"]
+//	  cc: ["archive@ostvale.example"]
+//	  subject: "Ostvale transmission report, data to {{ day .AsOf }}"
 type Config struct {
 	// Input says how the jurisdiction's export is read.
 	Input linelist.InputConfig
@@ -94,6 +100,80 @@ type Config struct {
 	// OffspringScale is the count axis of the offspring chart: "log", "linear", or ""
 	// (logarithmic when the tail is long; see offspringLogScale).
 	OffspringScale string
+	// Mail says who receives the report's cover mail.
+	Mail MailConfig
+}
+
+// MailConfig is the mail: section of config.yaml: the sender, recipients and subject of a
+// jurisdiction's cover mail. Addresses are checked when the config is read (RFC 5322, as
+// net/mail parses them). The SMTP server and its password are never here: they are flags
+// and a secret of the person sending.
+type MailConfig struct {
+	From    *mail.Address
+	To, Cc  []*mail.Address
+	Subject string // a template with the report's function library; empty: mail.md's "subject"
+	// SubjectLine is the line of subject: in config.yaml, for template errors.
+	SubjectLine int
+}
+
+// mailKeys are the keys of the mail: section.
+var mailKeys = []string{"from", "to", "cc", "subject"}
+
+// parseMail decodes the mail: section.
+func parseMail(v *yaml.Node, m *MailConfig) error {
+	if v.Kind != yaml.MappingNode {
+		return configErr(v.Line, "mail must be a mapping (from:, to:, cc:, subject:)")
+	}
+	addr := func(n *yaml.Node, key string) (*mail.Address, error) {
+		var s string
+		if err := decodeScalar(n, key, &s); err != nil {
+			return nil, err
+		}
+		a, err := mail.ParseAddress(s)
+		if err != nil {
+			return nil, configErr(n.Line, "%s: %q is not a mail address (%v)", key, s, err)
+		}
+		return a, nil
+	}
+	list := func(n *yaml.Node, key string) ([]*mail.Address, error) {
+		if n.Kind == yaml.ScalarNode {
+			a, err := addr(n, key)
+			return []*mail.Address{a}, err
+		}
+		if n.Kind != yaml.SequenceNode {
+			return nil, configErr(n.Line, "%s must be a list of mail addresses", key)
+		}
+		var out []*mail.Address
+		for _, e := range n.Content {
+			a, err := addr(e, key)
+			if err != nil {
+				return nil, err
+			}
+			out = append(out, a)
+		}
+		return out, nil
+	}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, val := v.Content[i], v.Content[i+1]
+		var err error
+		switch k.Value {
+		case "from":
+			m.From, err = addr(val, "mail.from")
+		case "to":
+			m.To, err = list(val, "mail.to")
+		case "cc":
+			m.Cc, err = list(val, "mail.cc")
+		case "subject":
+			err = decodeScalar(val, "mail.subject", &m.Subject)
+			m.SubjectLine = val.Line
+		default:
+			err = configErr(k.Line, "mail: unknown key %q (known: %s); the SMTP server and password are given when sending, never here", k.Value, strings.Join(mailKeys, ", "))
+		}
+		if err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // DefaultConfig is the configuration of a template folder without a config.yaml.
@@ -218,6 +298,7 @@ var configKeys = []configKey{
 		}
 		return nil
 	}},
+	{"mail", func(c *Config, v *yaml.Node) error { return parseMail(v, &c.Mail) }},
 }
 
 // hexColour is a colour as config.yaml writes it.

@@ -61,19 +61,9 @@ func Render(r *analysis.Released, opts Options) ([]byte, error) {
 		return nil, errors.New("render: no released summary")
 	}
 	s := r.Summary()
-	fsys := opts.Templates
-	if fsys == nil {
-		fsys = templates.Default()
-	}
-	var cfg Config
-	if opts.Config != nil {
-		cfg = *opts.Config
-	} else {
-		c, err := LoadConfig(fsys)
-		if err != nil {
-			return nil, err
-		}
-		cfg = c
+	fsys, cfg, err := folderConfig(opts.Templates, opts.Config)
+	if err != nil {
+		return nil, err
 	}
 	for _, c := range opts.Charts {
 		if !isChartName(c) {
@@ -81,7 +71,7 @@ func Render(r *analysis.Released, opts Options) ([]byte, error) {
 		}
 	}
 	st := &renderState{s: s, cfg: cfg, charts: opts.Charts, categories: opts.Categories}
-	set, err := parseFolder(fsys, st.funcs())
+	set, err := parseFolder(fsys, st.funcs(), MainTemplate)
 	if err != nil {
 		return nil, err
 	}
@@ -103,6 +93,19 @@ func Render(r *analysis.Released, opts Options) ([]byte, error) {
 		return nil, err
 	}
 	return page, nil
+}
+
+// folderConfig is the template folder to read (the embedded default when fsys is nil) and
+// the config to apply (override, or the folder's config.yaml).
+func folderConfig(fsys fs.FS, override *Config) (fs.FS, Config, error) {
+	if fsys == nil {
+		fsys = templates.Default()
+	}
+	if override != nil {
+		return fsys, *override, nil
+	}
+	cfg, err := LoadConfig(fsys)
+	return fsys, cfg, err
 }
 
 // StyleFile is the style sheet of a template folder.

@@ -78,8 +78,9 @@ func asTemplateError(err error, fallback string) error {
 }
 
 // parseFolder parses every *.md file of the folder into one set named by path, then rewrites
-// each output action so its value is escaped for Markdown.
-func parseFolder(fsys fs.FS, funcs template.FuncMap) (*template.Template, error) {
+// each output action so its value is escaped for Markdown. The folder must hold main (the
+// report's or the mail's template).
+func parseFolder(fsys fs.FS, funcs template.FuncMap, main string) (*template.Template, error) {
 	set := template.New("").Funcs(funcs).Option("missingkey=error")
 	found := false
 	err := fs.WalkDir(fsys, ".", func(p string, d fs.DirEntry, err error) error {
@@ -100,7 +101,7 @@ func parseFolder(fsys fs.FS, funcs template.FuncMap) (*template.Template, error)
 			}
 			return te
 		}
-		if p == MainTemplate {
+		if p == main {
 			found = true
 		}
 		return nil
@@ -113,7 +114,7 @@ func parseFolder(fsys fs.FS, funcs template.FuncMap) (*template.Template, error)
 		return nil, &TemplateError{File: ".", Err: err}
 	}
 	if !found {
-		return nil, &TemplateError{File: MainTemplate, Err: errors.New("the template folder has no " + MainTemplate)}
+		return nil, &TemplateError{File: main, Err: errors.New("the template folder has no " + main)}
 	}
 	for _, t := range set.Templates() {
 		if t.Tree != nil {

@@ -214,7 +214,7 @@ func TestBidiIsolation(t *testing.T) {
 
 // An unclosed block names the line where it opened, not only "unexpected EOF".
 func TestUnclosedActionNamesItsLine(t *testing.T) {
-	_, err := parseFolder(fstest.MapFS{"report.md": {Data: []byte("# R\n\n{{ with .Offspring }}\n{{ if .PoissonLimit }}\nx\n{{ end }}\n\nmore\n")}}, (&renderState{s: minimalSummary()}).funcs())
+	_, err := parseFolder(fstest.MapFS{"report.md": {Data: []byte("# R\n\n{{ with .Offspring }}\n{{ if .PoissonLimit }}\nx\n{{ end }}\n\nmore\n")}}, (&renderState{s: minimalSummary()}).funcs(), MainTemplate)
 	var te *TemplateError
 	if !errors.As(err, &te) || te.Line != 3 || !strings.Contains(err.Error(), "{{ with }} opened on line 3 has no {{ end }}") {
 		t.Errorf("error %v", err)

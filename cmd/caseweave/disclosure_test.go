@@ -61,6 +61,9 @@ func readSummary(t *testing.T, path string) *analysis.Summary {
 	return &s
 }
 
+// casesCount finds "N cases" in a text.
+var casesCount = regexp.MustCompile(`(?:^|[^\d,.])(\d+) cases\b`)
+
 var chartOption = regexp.MustCompile(`(?s)<script type="application/json" id="(cw_[a-z_]+)_\d+_option">(.*?)</script>`)
 
 // chartCounts returns every number of the data of the count charts (the epidemic curve
@@ -154,6 +157,15 @@ func TestBatchOutputsGiveNothingAway(t *testing.T) {
 		if code != 0 {
 			t.Fatalf("%s: %s", c.name, stderr)
 		}
+		// The cover mail of each report, as a dry run writes it: its text and HTML parts are
+		// scanned below with the report's outputs.
+		mailTmpl := filepath.Join(dir, c.name+"-mail-template")
+		os.MkdirAll(mailTmpl, 0o755)
+		writeFile(t, mailTmpl, "config.yaml", "mail:\n  from: \"desk@vell.example\"\n  to: [\"lead@vell.example\"]\n")
+		outbox := filepath.Join(dir, c.name+"-outbox")
+		if code, _, stderr := cli(t, "mail", "--template", mailTmpl, "--no-chart-image", "--dry-run", outbox, out); code != 0 {
+			t.Fatalf("%s: mail: %s", c.name, stderr)
+		}
 		reports, _ := filepath.Glob(filepath.Join(out, "*.html"))
 		checked, plantedAny := 0, false
 		for _, html := range reports {
@@ -217,6 +229,21 @@ func TestBatchOutputsGiveNothingAway(t *testing.T) {
 				t.Fatalf("%s/%s: no chain to take dates from", c.name, slug)
 			}
 			outputs := []string{html, filepath.Join(out, slug+".json")}
+			eml, err := os.ReadFile(filepath.Join(outbox, slug+".eml"))
+			if err != nil {
+				t.Fatalf("%s/%s: no mail: %v", c.name, slug, err)
+			}
+			text, htm, _ := mailParts(t, eml)
+			if !strings.Contains(text, "Key numbers") {
+				t.Fatalf("%s/%s: the mail's text part is missing", c.name, slug)
+			}
+			outputs = append(outputs, writeFile(t, outbox, slug+".txt", text), writeFile(t, outbox, slug+".part.html", htm))
+			// A count of cases in the mail's sentences ("(47 cases)") is never a small one.
+			for _, m := range casesCount.FindAllStringSubmatch(text, -1) {
+				if n, _ := strconv.Atoi(m[1]); n > 0 && n < thr {
+					t.Errorf("%s/%s: the mail says %q, below the threshold %d", c.name, slug, m[0], thr)
+				}
+			}
 			csvs, _ := filepath.Glob(filepath.Join(tables, slug, "*.csv"))
 			outputs = append(outputs, csvs...)
 			for _, n := range full.Clusters.Largest[0].Nodes {

@@ -3,7 +3,8 @@
 // (R and the dispersion k) with bootstrap intervals, runs the branching-process mathematics
 // and renders a self-contained HTML report.
 //
-// Exit codes: 0 ok, 1 input unusable, 2 usage error, 3 template error, 4 output error.
+// Exit codes: 0 ok, 1 input unusable, 2 usage error, 3 template error, 4 output error,
+// 5 some mail not accepted.
 package main
 
 import (
@@ -23,6 +24,7 @@ const (
 	exitUsage    = 2
 	exitTemplate = 3
 	exitOutput   = 4
+	// exitMail (mail.go) is 5: some message was not accepted.
 	// An interrupted write stops cleanly and exits as a shell reports a signal (128 + n).
 	exitInterrupt  = 130 // SIGINT
 	exitTerminated = 143 // SIGTERM
@@ -104,6 +106,7 @@ const exitCodesHelp = `Exit codes:
   2  usage error (unknown flag or command, wrong arguments)
   3  template error (the message names the file, line and field)
   4  output error (a file could not be written; any earlier output is left untouched)
+  5  mail: some message was not accepted by the server (the others were sent; run again to retry)
   130, 143  interrupted by SIGINT or SIGTERM while writing; nothing was changed
 `
 
@@ -125,7 +128,7 @@ branching-process outlook, and writes a self-contained HTML report.`,
 		return &exitError{exitUsage, fmt.Errorf("%w (see '%s --help')", err, c.CommandPath())}
 	})
 	root.CompletionOptions.DisableDefaultCmd = true
-	root.AddCommand(newCheckCmd(e), newEstimateCmd(e), newOutlookCmd(e), newReportCmd(e), newDemoCmd(e), newSimulateCmd(e), newTemplateCmd(e))
+	root.AddCommand(newCheckCmd(e), newEstimateCmd(e), newOutlookCmd(e), newReportCmd(e), newDemoCmd(e), newSimulateCmd(e), newTemplateCmd(e), newMailCmd(e))
 	return root
 }
 

@@ -37,6 +37,8 @@ type reportFlags struct {
 	pdf        bool
 	showIDs    bool
 	incub      int
+	mail       bool
+	mailFlags  mailFlags
 	// templateConfig is set when the config was taken from the --template folder.
 	templateConfig bool
 	// pseudonyms are the batch's, one per pseudonym key.
@@ -75,6 +77,8 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
 	fl.IntVar(&f.incub, "incubation-days", 0, "longest incubation period in days, for the end-of-outbreak rule of thumb (overrides the template config's incubation_days)")
 	fl.BoolVar(&f.showIDs, "show-ids", false, "print case identifiers as they are instead of pseudonyms")
+	fl.BoolVar(&f.mail, "mail", false, "with --by, then send each report as caseweave mail does (see 'caseweave mail --help')")
+	f.mailFlags.register(c, false)
 	return c
 }
 
@@ -93,6 +97,17 @@ func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
 	byCol, ok := stratumColumn(f.by)
 	if f.by != "" && !ok {
 		return usageErrorf("--by must be one of %s, got %q", strings.Join(linelist.StratumColumns(), ", "), f.by)
+	}
+	if f.mail {
+		if f.by == "" {
+			return usageErrorf("--mail needs --by: each jurisdiction's report goes to its own recipients")
+		}
+		if f.mailFlags.dryRun == "" {
+			if _, err := f.mailFlags.serverConfig(); err != nil {
+				return err
+			}
+		}
+		f.mailFlags.template = f.template
 	}
 	tmplRoot, err := openTemplateDir(f.template)
 	if err != nil {
@@ -149,7 +164,25 @@ func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
 			pages = append(pages, p)
 		}
 	}
-	return f.write(e, pages, f.extra)
+	if err := f.write(e, pages, f.extra); err != nil {
+		return err
+	}
+	if f.mail {
+		srcs := make([]mailSource, len(pages))
+		for i, p := range pages {
+			srcs[i] = mailSource{slug: p.slug, rel: p.released, html: p.html, pdf: p.pdf}
+		}
+		return f.mailFlags.deliver(e, f.batchDir(), srcs)
+	}
+	return nil
+}
+
+// batchDir is the folder a --by run writes.
+func (f *reportFlags) batchDir() string {
+	if f.out == "" {
+		return "reports"
+	}
+	return f.out
 }
 
 type scoped struct {
@@ -267,10 +300,7 @@ func (f *reportFlags) write(e env, pages []page, extra map[string][]byte) error 
 		}
 		wrote = out
 	} else {
-		dir := f.out
-		if dir == "" {
-			dir = "reports"
-		}
+		dir := f.batchDir()
 		batch := tx.Folder(dir)
 		for name, data := range extra {
 			batch.Add(name, data)
