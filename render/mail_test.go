@@ -7,7 +7,7 @@ import (
 	"unicode"
 	"unicode/utf8"
 
-	"github.com/caseweave/caseweave/internal/smtptest"
+	"github.com/caseweave/caseweave/cmd/internal/smtptest"
 	"github.com/caseweave/caseweave/pipeline/analysis"
 )
 

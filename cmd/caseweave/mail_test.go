@@ -13,8 +13,8 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/caseweave/caseweave/deliver"
-	"github.com/caseweave/caseweave/internal/smtptest"
+	"github.com/caseweave/caseweave/cmd/internal/deliver"
+	"github.com/caseweave/caseweave/cmd/internal/smtptest"
 )
 
 // mailTemplates is the demo's recipients (examples/mail: one folder per jurisdiction).

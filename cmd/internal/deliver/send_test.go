@@ -13,7 +13,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/caseweave/caseweave/internal/smtptest"
+	"github.com/caseweave/caseweave/cmd/internal/smtptest"
 )
 
 func addr(t *testing.T, s string) *mail.Address {
