@@ -21,8 +21,8 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/caseweave/caseweave/cmd/internal/output"
 	"github.com/caseweave/caseweave/cmd/internal/deliver"
+	"github.com/caseweave/caseweave/cmd/internal/output"
 	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/render"

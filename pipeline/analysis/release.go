@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"path"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -120,7 +121,9 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	t := countTables(c)
 	suppressTables(t, thr)
 	t.withhold()
-	if held := t.held(); held > 0 {
+	// A view released again (caseweave mail re-releases a report's JSON) keeps the caution
+	// of its first release, whose count is of the counts it withheld then.
+	if held := t.held(); held > 0 && !slices.ContainsFunc(c.Cautions, func(x Caution) bool { return x.Kind == CautionWithheldCounts }) {
 		c.Cautions = append(c.Cautions, Caution{Kind: CautionWithheldCounts, Text: fmt.Sprintf(
 			"%s in the tables by week, setting and age group are withheld: counts from 1 to %d, and the counts that would let one be worked out, are not shown, to protect the people behind small numbers.",
 			countOf(held, "count"), thr-1)})
