@@ -3,6 +3,7 @@ package render
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"html/template"
 	"io/fs"
 	"strings"
@@ -112,6 +113,9 @@ func RenderMail(r *analysis.Released, opts MailOptions) (*Mail, error) {
 	out.Text = mailPlain(doc, src, opts.ChartNote)
 	if out.HTML, err = mailHTML(doc, src, opts, out.Subject); err != nil {
 		return nil, err
+	}
+	if tag := ExternalReference(out.HTML); tag != "" {
+		return nil, fmt.Errorf("render: the mail's HTML part would run a script or fetch from outside the message: %.80s", tag)
 	}
 	return out, nil
 }

@@ -7,7 +7,6 @@ import (
 	"unicode"
 	"unicode/utf8"
 
-	"github.com/caseweave/caseweave/cmd/internal/smtptest"
 	"github.com/caseweave/caseweave/pipeline/analysis"
 )
 
@@ -36,10 +35,10 @@ func TestMailCarriesTheReportNumbersInBothParts(t *testing.T) {
 			t.Errorf("HTML part lacks %q", want)
 		}
 	}
-	if tag := smtptest.ExternalReference(m.HTML); tag != "" {
+	if tag := ExternalReference(m.HTML); tag != "" {
 		t.Errorf("HTML part refers outside the message: %s", tag)
 	}
-	if smtptest.ExternalReference([]byte(`<p><img src="https://x.example/a.png"></p>`)) == "" || smtptest.ExternalReference([]byte(`<script>`)) == "" {
+	if ExternalReference([]byte(`<p><img src="https://x.example/a.png"></p>`)) == "" || ExternalReference([]byte(`<script>`)) == "" {
 		t.Error("the check misses an external image or a script")
 	}
 	if !strings.Contains(string(m.HTML), `src="cid:epicurve.1@caseweave"`) {
@@ -71,7 +70,7 @@ func TestMailEscapesHostileData(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if tag := smtptest.ExternalReference(m.HTML); tag != "" {
+	if tag := ExternalReference(m.HTML); tag != "" {
 		t.Errorf("hostile data became markup: %s", tag)
 	}
 	if strings.ContainsAny(m.Subject, "\r\n") || !strings.Contains(m.Subject, "</script><script>alert(2)</script>") {
@@ -150,7 +149,7 @@ func FuzzMail(f *testing.F) {
 		if err != nil {
 			t.Fatalf("mail of a released view failed: %v", err)
 		}
-		if tag := smtptest.ExternalReference(m.HTML); tag != "" {
+		if tag := ExternalReference(m.HTML); tag != "" {
 			t.Fatalf("the HTML part refers outside the message: %s", tag)
 		}
 		if strings.ContainsAny(m.Subject, "\r\n") {

@@ -15,6 +15,7 @@ import (
 
 	"github.com/caseweave/caseweave/cmd/internal/deliver"
 	"github.com/caseweave/caseweave/cmd/internal/smtptest"
+	"github.com/caseweave/caseweave/render"
 )
 
 // mailTemplates is the demo's recipients (examples/mail: one folder per jurisdiction).
@@ -126,7 +127,7 @@ func TestMailSendsEachReportAndRetriesTheFailed(t *testing.T) {
 		if !found {
 			t.Errorf("%s: the report attachment is missing or changed", slug)
 		}
-		if tag := smtptest.ExternalReference([]byte(htm)); tag != "" || strings.Contains(strings.ToLower(htm), "<script") {
+		if tag := render.ExternalReference([]byte(htm)); tag != "" || strings.Contains(strings.ToLower(htm), "<script") {
 			t.Errorf("%s: the HTML part runs script or refers outside the message: %s", slug, tag)
 		}
 		// The plain part carries the same numbers as the HTML part, in the same order.

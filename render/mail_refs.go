@@ -1,4 +1,4 @@
-package smtptest
+package render
 
 import "regexp"
 
@@ -11,7 +11,8 @@ var externalRef = regexp.MustCompile(`(?i)^<(?:script|link|iframe|frame|object|e
 var htmlTag = regexp.MustCompile(`<[^>]*>`)
 
 // ExternalReference returns the first tag of an HTML mail part that runs script or refers
-// outside the message, or "" when there is none.
+// outside the message, or "" when there is none. RenderMail refuses a part that has one, and
+// the tests of every mail check the parts they receive with it.
 func ExternalReference(page []byte) string {
 	for _, tag := range htmlTag.FindAll(page, -1) {
 		if externalRef.Match(tag) {
