@@ -30,3 +30,57 @@ type PointNu struct{}
 
 // ShareCausing is the target itself.
 func (PointNu) ShareCausing(target float64) (float64, error) { return target, nil }
+
+// keptCut is t_c = k·x_c, where x_c is the (1 − c) quantile of ν/R ~ Gamma(shape k, rate k):
+// the point of the regularized incomplete gamma function with Q(k, t_c) = c, +Inf at c = 0
+// and 0 at c = 1.
+func (g GammaNu) keptCut(c float64) float64 {
+	switch {
+	case c <= 0:
+		return math.Inf(1)
+	case c >= 1:
+		return 0
+	}
+	return mathext.GammaIncRegCompInv(g.Shape, c)
+}
+
+// gammaIncReg is P(a, x), with P(a, +Inf) = 1.
+func gammaIncReg(a, x float64) float64 {
+	if math.IsInf(x, 1) {
+		return 1
+	}
+	return mathext.GammaIncReg(a, x)
+}
+
+// KeptMoments: for ν₁ ~ Gamma(k, rate k), E[ν₁^n; ν₁ ≤ x] = Γ(k + n)/(Γ(k)kⁿ)·P(k + n, kx), so
+// m1 = P(k + 1, t_c) and m2 = (k + 1)/k·P(k + 2, t_c) [the truncated moments of the gamma
+// density; Lloyd-Smith et al. 2005, supplement, use m1 for the targeted-control R].
+func (g GammaNu) KeptMoments(c float64) (m1, m2 float64) {
+	k, t := g.Shape, g.keptCut(c)
+	return gammaIncReg(k+1, t), (k + 1) / k * gammaIncReg(k+2, t)
+}
+
+// KeptLaplace: ∫₀^{x_c} e^{−zν} kᵏν^{k−1}e^{−kν}/Γ(k) dν = (1 + z/k)^{−k}·P(k, t_c(1 + z/k)),
+// substituting u = (k + z)ν in the incomplete gamma integral.
+func (g GammaNu) KeptLaplace(c, z float64) float64 {
+	k, t := g.Shape, g.keptCut(c)
+	a := 1 + z/k
+	return math.Exp(-k*math.Log1p(z/k)) * gammaIncReg(k, t*a)
+}
+
+// KeptPoisson: ∫₀^{x_c} e^{−μν}(μν)ˣ/x!·kᵏν^{k−1}e^{−kν}/Γ(k) dν = NB(x; μ, k)·P(x + k,
+// t_c(1 + μ/k)), NB the negative binomial PMF of mean μ and dispersion k (the same
+// substitution as KeptLaplace).
+func (g GammaNu) KeptPoisson(c, mu float64, x int) float64 {
+	k, t := g.Shape, g.keptCut(c)
+	return NegBin{R: mu, K: k}.PMF(x) * gammaIncReg(float64(x)+k, t*(1+mu/k))
+}
+
+// KeptMoments: every case has ν₁ = 1, so removing the share c leaves 1 − c of both moments.
+func (PointNu) KeptMoments(c float64) (m1, m2 float64) { return 1 - c, 1 - c }
+
+// KeptLaplace is (1 − c)e^{−z}.
+func (PointNu) KeptLaplace(c, z float64) float64 { return (1 - c) * math.Exp(-z) }
+
+// KeptPoisson is (1 − c) times the Poisson(μ) PMF at x.
+func (PointNu) KeptPoisson(c, mu float64, x int) float64 { return (1 - c) * Poisson{R: mu}.PMF(x) }
