@@ -56,7 +56,7 @@ func Controlled(d offspring.Distribution, strategy string, c float64) (offspring
 		if !ok {
 			return nil, fmt.Errorf("branching: targeted control needs the distribution of individual R, which the %s model does not give", d.Name())
 		}
-		return targeted{d: d, nu: tr, c: c}, nil
+		return targeted{d: d, kept: tr.RemoveTop(c), c: c}, nil
 	}
 	return nil, fmt.Errorf("branching: unknown control strategy %q", strategy)
 }
@@ -100,7 +100,7 @@ func ControlCurve(d offspring.Distribution, strategy string, efforts []float64) 
 // ControlThreshold is the smallest effort c with R_c ≤ 1, so that every introduction dies
 // out [Lloyd-Smith et al. 2005]: 0 when R ≤ 1; 1 − 1/R for the population-wide and the
 // individual strategies; for targeted control the root of R·m1(c) = 1, m1 the kept share of
-// transmission (offspring.TargetedRemover.KeptMoments), which falls from 1 at c = 0 to 0
+// transmission (offspring.KeptNu.Moments), which falls from 1 at c = 0 to 0
 // at c = 1, found by Brent's method.
 func ControlThreshold(d offspring.Distribution, strategy string) (float64, error) {
 	if _, err := Controlled(d, strategy, 0); err != nil {
@@ -115,7 +115,7 @@ func ControlThreshold(d offspring.Distribution, strategy string) (float64, error
 	}
 	tr, _ := targetedRemover(d)
 	f := func(c float64) float64 {
-		m1, _ := tr.KeptMoments(c)
+		m1, _ := tr.RemoveTop(c).Moments()
 		return R*m1 - 1
 	}
 	c, err := numeric.Brent(f, 0, 1, 1e-14, 500)
@@ -175,7 +175,7 @@ func (t thinned) PMF(x int) float64 {
 		return 0
 	}
 	if tr, ok := targetedRemover(t.d); ok {
-		return tr.KeptPoisson(0, t.keep*t.d.Mean(), x)
+		return tr.RemoveTop(0).Poisson(t.keep*t.d.Mean(), x)
 	}
 	if t.keep == 1 {
 		return t.d.PMF(x)
@@ -240,25 +240,25 @@ func (r removed) LogPMF(x int) float64 { return math.Log(r.PMF(x)) }
 
 // targeted is Z with the share c of largest-ν cases removed.
 type targeted struct {
-	d  offspring.Distribution
-	nu offspring.TargetedRemover
-	c  float64
+	d    offspring.Distribution
+	kept offspring.KeptNu
+	c    float64
 }
 
 func (t targeted) Name() string { return t.d.Name() + " under targeted control" }
 func (t targeted) Mean() float64 {
-	m1, _ := t.nu.KeptMoments(t.c)
+	m1, _ := t.kept.Moments()
 	return t.d.Mean() * m1
 }
 
 // Variance of a mixed Poisson with the kept ν: E[Z] = R·m1, E[Z(Z − 1)] = R²·m2.
 func (t targeted) Variance() float64 {
 	R := t.d.Mean()
-	m1, m2 := t.nu.KeptMoments(t.c)
+	m1, m2 := t.kept.Moments()
 	return R*m1 + R*R*m2 - R*R*m1*m1
 }
 func (t targeted) PGF(s float64) float64 {
-	return t.c + t.nu.KeptLaplace(t.c, t.d.Mean()*(1-s))
+	return t.c + t.kept.Laplace(t.d.Mean()*(1-s))
 }
 func (t targeted) PGFComplex(s complex128) complex128 {
 	if imag(s) == 0 && real(s) >= 0 {
@@ -270,7 +270,7 @@ func (t targeted) PMF(x int) float64 {
 	if x < 0 {
 		return 0
 	}
-	p := t.nu.KeptPoisson(t.c, t.d.Mean(), x)
+	p := t.kept.Poisson(t.d.Mean(), x)
 	if x == 0 {
 		p += t.c
 	}

@@ -31,18 +31,21 @@ type PointNu struct{}
 // ShareCausing is the target itself.
 func (PointNu) ShareCausing(target float64) (float64, error) { return target, nil }
 
-// keptCut is t_c = k·x_c, where x_c is the (1 − c) quantile of ν/R ~ Gamma(shape k, rate k):
-// the point of the regularized incomplete gamma function with Q(k, t_c) = c, +Inf at c = 0
-// and 0 at c = 1.
-func (g GammaNu) keptCut(c float64) float64 {
+// RemoveTop cuts ν₁ = ν/R ~ Gamma(shape k, rate k) at x_c, its (1 − c) quantile, held as
+// t_c = k·x_c, the point with Q(k, t_c) = c for the regularized upper incomplete gamma
+// function Q (+Inf at c = 0, 0 at c = 1).
+func (g GammaNu) RemoveTop(c float64) KeptNu {
+	t := 0.0
 	switch {
 	case c <= 0:
-		return math.Inf(1)
-	case c >= 1:
-		return 0
+		t = math.Inf(1)
+	case c < 1:
+		t = mathext.GammaIncRegCompInv(g.Shape, c)
 	}
-	return mathext.GammaIncRegCompInv(g.Shape, c)
+	return gammaKept{k: g.Shape, t: t}
 }
+
+type gammaKept struct{ k, t float64 }
 
 // gammaIncReg is P(a, x), with P(a, +Inf) = 1.
 func gammaIncReg(a, x float64) float64 {
@@ -52,35 +55,32 @@ func gammaIncReg(a, x float64) float64 {
 	return mathext.GammaIncReg(a, x)
 }
 
-// KeptMoments: for ν₁ ~ Gamma(k, rate k), E[ν₁^n; ν₁ ≤ x] = Γ(k + n)/(Γ(k)kⁿ)·P(k + n, kx), so
-// m1 = P(k + 1, t_c) and m2 = (k + 1)/k·P(k + 2, t_c) [the truncated moments of the gamma
-// density; Lloyd-Smith et al. 2005, supplement, use m1 for the targeted-control R].
-func (g GammaNu) KeptMoments(c float64) (m1, m2 float64) {
-	k, t := g.Shape, g.keptCut(c)
-	return gammaIncReg(k+1, t), (k + 1) / k * gammaIncReg(k+2, t)
+// Moments: for ν₁ ~ Gamma(k, rate k), E[ν₁ⁿ; ν₁ ≤ x] = Γ(k + n)/(Γ(k)kⁿ)·P(k + n, kx), so
+// m1 = P(k + 1, t_c) and m2 = (k + 1)/k·P(k + 2, t_c) (truncated moments of the gamma
+// density; Lloyd-Smith et al. 2005, supplement, use m1 for the targeted-control R).
+func (g gammaKept) Moments() (m1, m2 float64) {
+	return gammaIncReg(g.k+1, g.t), (g.k + 1) / g.k * gammaIncReg(g.k+2, g.t)
 }
 
-// KeptLaplace: ∫₀^{x_c} e^{−zν} kᵏν^{k−1}e^{−kν}/Γ(k) dν = (1 + z/k)^{−k}·P(k, t_c(1 + z/k)),
+// Laplace: ∫₀^{x_c} e^{−zν} kᵏν^{k−1}e^{−kν}/Γ(k) dν = (1 + z/k)^{−k}·P(k, t_c(1 + z/k)),
 // substituting u = (k + z)ν in the incomplete gamma integral.
-func (g GammaNu) KeptLaplace(c, z float64) float64 {
-	k, t := g.Shape, g.keptCut(c)
-	a := 1 + z/k
-	return math.Exp(-k*math.Log1p(z/k)) * gammaIncReg(k, t*a)
+func (g gammaKept) Laplace(z float64) float64 {
+	return math.Exp(-g.k*math.Log1p(z/g.k)) * gammaIncReg(g.k, g.t*(1+z/g.k))
 }
 
-// KeptPoisson: ∫₀^{x_c} e^{−μν}(μν)ˣ/x!·kᵏν^{k−1}e^{−kν}/Γ(k) dν = NB(x; μ, k)·P(x + k,
+// Poisson: ∫₀^{x_c} e^{−μν}(μν)ˣ/x!·kᵏν^{k−1}e^{−kν}/Γ(k) dν = NB(x; μ, k)·P(x + k,
 // t_c(1 + μ/k)), NB the negative binomial PMF of mean μ and dispersion k (the same
-// substitution as KeptLaplace).
-func (g GammaNu) KeptPoisson(c, mu float64, x int) float64 {
-	k, t := g.Shape, g.keptCut(c)
-	return NegBin{R: mu, K: k}.PMF(x) * gammaIncReg(float64(x)+k, t*(1+mu/k))
+// substitution as Laplace).
+func (g gammaKept) Poisson(mu float64, x int) float64 {
+	return NegBin{R: mu, K: g.k}.PMF(x) * gammaIncReg(float64(x)+g.k, g.t*(1+mu/g.k))
 }
 
-// KeptMoments: every case has ν₁ = 1, so removing the share c leaves 1 − c of both moments.
-func (PointNu) KeptMoments(c float64) (m1, m2 float64) { return 1 - c, 1 - c }
+// RemoveTop: every case has ν₁ = 1, so removing the share c of cases leaves 1 − c of every
+// expectation.
+func (PointNu) RemoveTop(c float64) KeptNu { return pointKept{keep: 1 - c} }
 
-// KeptLaplace is (1 − c)e^{−z}.
-func (PointNu) KeptLaplace(c, z float64) float64 { return (1 - c) * math.Exp(-z) }
+type pointKept struct{ keep float64 }
 
-// KeptPoisson is (1 − c) times the Poisson(μ) PMF at x.
-func (PointNu) KeptPoisson(c, mu float64, x int) float64 { return (1 - c) * Poisson{R: mu}.PMF(x) }
+func (p pointKept) Moments() (m1, m2 float64)         { return p.keep, p.keep }
+func (p pointKept) Laplace(z float64) float64         { return p.keep * math.Exp(-z) }
+func (p pointKept) Poisson(mu float64, x int) float64 { return p.keep * Poisson{R: mu}.PMF(x) }
