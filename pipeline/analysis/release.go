@@ -116,6 +116,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	releaseWeeks(c)
 	releaseTrend(c)
 	coarsenTrees(c, thr)
+	releaseMultitype(c, thr)
 	return &Released{s: c}, nil
 }
 

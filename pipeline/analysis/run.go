@@ -163,12 +163,14 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.inferMissing()
 	a.offspring()
 	a.outlook()
+	a.control()
 	a.endOfOutbreak()
 	a.weekly()
 	a.epiCurve()
 	a.assess()
 	a.clusters()
 	a.ageMixing()
+	a.multitype()
 	a.strata()
 	return s, nil
 }
