@@ -412,6 +412,9 @@ type Stratum struct {
 type Control struct {
 	// Model is the offspring model the scenarios rest on.
 	Model string `json:"model"`
+	// AboveOne is whether the fitted R, with no control, is above 1: otherwise every chain
+	// dies out already and every threshold is 0.
+	AboveOne bool `json:"above_one"`
 	// Efforts are the control efforts c, from 0 (no control) to 1.
 	Efforts []float64 `json:"efforts"`
 	// Strategies are "population" (every case's individual R scaled by 1 − c),

@@ -55,7 +55,8 @@ func (a *run) control() {
 	}
 	point := a.boot.Estimate
 	d := a.family.Distribution(point)
-	ctl := &Control{Model: d.Name(), Efforts: controlEfforts(), Replicates: min(len(a.boot.Replicates), controlReplicates)}
+	ctl := &Control{Model: d.Name(), Efforts: controlEfforts(), Replicates: min(len(a.boot.Replicates), controlReplicates),
+		AboveOne: d.Mean() > 1}
 	for _, name := range branching.ControlStrategies {
 		if _, err := branching.Controlled(d, name, 0); err != nil {
 			a.note("No %s control scenario: %v.", name, err)
