@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/branching"
@@ -109,14 +110,12 @@ func (a *run) control() {
 // negative-binomial k from fewer cases is rarely better than a guess).
 const MinTypeCases = 10
 
-// multitypeReplicates caps the bootstrap behind the age-group R, and multitypeBudget the
-// case draws it may make in all (about a second of one core), beyond which it uses fewer
-// replicates, never fewer than multitypeMinReplicates.
+// multitypeReplicates caps the bootstrap behind the age-group R: 1000 for a percentile
+// interval (Efron & Tibshirani 1993, ch. 13, recommend ≥ 1000), each replicate one eigenvalue
+// problem of the size of the age groups.
 const (
-	multitypeReplicates    = 1000
-	multitypeMinReplicates = 200
-	multitypeBudget        = 50_000_000
-	streamMultitype        = 0x6d74
+	multitypeReplicates = 1000
+	streamMultitype     = 0x6d74
 )
 
 // poolRule states the pooling rule in the report's words.
@@ -198,11 +197,14 @@ func (a *run) multitype() {
 	// Each counted case with its offspring by type.
 	var cases []typedCase
 	pos := make([]int, len(a.cases))
+	knownAll := make([]int, total*n) // one allocation for every case's counts by type
 	for i := range a.cases {
 		pos[i] = -1
 		if counted[i] {
-			pos[i] = len(cases)
-			cases = append(cases, typedCase{typ: typeOf[index[a.cases[i].AgeGroup]], total: int(a.f.Offspring[i]), known: make([]int, n)})
+			k := len(cases)
+			pos[i] = k
+			cases = append(cases, typedCase{typ: typeOf[index[a.cases[i].AgeGroup]], total: int(a.f.Offspring[i]),
+				known: knownAll[k*n : (k+1)*n : (k+1)*n]})
 		}
 	}
 	unknownInfectees := 0
@@ -218,36 +220,62 @@ func (a *run) multitype() {
 		}
 	}
 	m.UnknownAge, m.UnknownInfectees = count(unknownAge), count(unknownInfectees)
-	byType := make([][]int, n)
-	for c, tc := range cases {
-		byType[tc.typ] = append(byType[tc.typ], c)
+	// Each type's cases as distinct profiles (offspring in all, offspring by type) with how
+	// many cases share each, in order of first appearance: the bootstrap draws profile counts
+	// as a multinomial, so its cost does not grow with the number of cases.
+	profiles := make([][]typedCase, n)
+	weights := make([][]int, n)
+	seenProfile := make([]map[string]int, n)
+	var key []byte
+	for _, tc := range cases {
+		t := tc.typ
+		if seenProfile[t] == nil {
+			seenProfile[t] = map[string]int{}
+		}
+		key = strconv.AppendInt(key[:0], int64(tc.total), 10)
+		for _, v := range tc.known {
+			key = strconv.AppendInt(append(key, ','), int64(v), 10)
+		}
+		p, ok := seenProfile[t][string(key)]
+		if !ok {
+			p = len(profiles[t])
+			seenProfile[t][string(key)] = p
+			profiles[t] = append(profiles[t], tc)
+			weights[t] = append(weights[t], 0)
+		}
+		weights[t][p]++
 	}
-	draw := func(pick func(t, k int) int) [][]float64 {
+	caseCount := make([]int, n)
+	for t := range weights {
+		for _, w := range weights[t] {
+			caseCount[t] += w
+		}
+	}
+	draw := func(w [][]int) [][]float64 {
 		sums := make([]float64, n)
 		known := make([][]float64, n)
-		for t := range byType {
+		for t := range profiles {
 			known[t] = make([]float64, n)
-			for k := range byType[t] {
-				c := cases[pick(t, k)]
-				sums[t] += float64(c.total)
+			for p, c := range profiles[t] {
+				sums[t] += float64(w[t][p] * c.total)
 				for j, v := range c.known {
-					known[t][j] += float64(v)
+					known[t][j] += float64(w[t][p] * v)
 				}
 			}
-			sums[t] /= float64(len(byType[t]))
+			sums[t] /= float64(caseCount[t])
 		}
 		return nextGeneration(sums, known)
 	}
-	M := draw(func(t, k int) int { return byType[t][k] })
+	M := draw(weights)
 	m.Matrix = M
 
 	// Negative-binomial totals per type, with the row's mean.
 	totals := make([]offspring.Distribution, n)
 	m.K = make([]*float64, n)
-	for t := range byType {
+	for t := range profiles {
 		freq := map[int]int{}
-		for _, c := range byType[t] {
-			freq[cases[c].total]++
+		for p, c := range profiles[t] {
+			freq[c.total] += weights[t][p]
 		}
 		R := 0.0
 		for _, v := range M[t] {
@@ -297,22 +325,28 @@ func (a *run) multitype() {
 	}
 	if active == 0 {
 		m.Start = "all"
-		for t := range byType {
-			start[t] = float64(len(byType[t]))
+		for t, c := range caseCount {
+			start[t] = float64(c)
 		}
 	}
 	m.GenerationShares, _ = branching.GenerationShares(M, start, a.o.Generations) // lengths agree
 
-	// Bootstrap: cases resampled with replacement within each type.
+	// Bootstrap: cases resampled with replacement within each type, as multinomial counts of
+	// its profiles.
 	B := min(a.o.Replicates, multitypeReplicates)
-	if len(cases) > 0 && B*len(cases) > multitypeBudget {
-		B = max(multitypeMinReplicates, multitypeBudget/len(cases))
+	conds := make([][]float64, n)
+	draws := make([][]int, n)
+	for t := range weights {
+		conds[t] = numeric.ConditionalShares(weights[t])
+		draws[t] = make([]int, len(weights[t]))
 	}
 	reps := make([]float64, 0, B)
 	for b := 0; b < B; b++ {
 		rng := numeric.StreamRand(a.o.Seed+streamMultitype, b)
-		Mb := draw(func(t, _ int) int { return byType[t][rng.IntN(len(byType[t]))] })
-		if r, err := branching.SpectralRadius(Mb); err == nil {
+		for t := range conds {
+			numeric.Multinomial(rng, caseCount[t], conds[t], draws[t])
+		}
+		if r, err := branching.SpectralRadius(draw(draws)); err == nil {
 			reps = append(reps, r)
 		}
 	}
