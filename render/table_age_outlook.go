@@ -50,7 +50,7 @@ func tableAgeShares(st *renderState, f cellFmt) (t table, ok bool, err error) {
 	if m == nil || len(m.Groups) == 0 || (len(m.GenerationShares) == 0 && m.StableShares == nil) {
 		return t, false, nil
 	}
-	t.Header = append([]string{"Generation"}, m.Groups...)
+	t.Header = append([]string{"Cases of"}, m.Groups...)
 	t.Numeric = []bool{false}
 	for range m.Groups {
 		t.Numeric = append(t.Numeric, true)
@@ -67,7 +67,7 @@ func tableAgeShares(st *renderState, f cellFmt) (t table, ok bool, err error) {
 		t.Rows = append(t.Rows, row)
 	}
 	for g, sh := range m.GenerationShares {
-		add("+"+f.int(g+1), sh)
+		add("Generation +"+f.int(g+1), sh) // a cell starting with "+" would read as a formula
 	}
 	if m.StableShares != nil {
 		add("In the long run", m.StableShares)
