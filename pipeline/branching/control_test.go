@@ -105,8 +105,9 @@ func TestControlThresholdsMatchSciPy(t *testing.T) {
 	}
 }
 
-// Lloyd-Smith et al. (2005, Nature 438:355, Fig. 3 and text): control targeted at the most
-// infectious cases beats the same effort spent at random, and the gain grows as k falls.
+// Lloyd-Smith et al. (2005, Nature 438:355, the analysis of control measures; that it is
+// their Fig. 3 is recalled from memory): control targeted at the most infectious cases beats
+// the same effort spent at random, and the gain grows as k falls.
 // Checked on the SciPy thresholds (R = 3: k = 0.1, 0.5, 1, 4) and on the curves.
 func TestTargetedBeatsRandomMoreSoForSmallK(t *testing.T) {
 	ref := loadControlReference(t)
