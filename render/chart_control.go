@@ -59,10 +59,15 @@ func (st *renderState) chartControl(c *analysis.Control) ([]chartSpec, string, e
 	line.SetGlobalOptions(append(baseOpts(id, 340, "axis", true),
 		charts.WithXAxisOpts(xa), charts.WithYAxisOpts(ya))...)
 	for k, s := range c.Strategies {
-		data := make([]opts.LineData, 0, len(c.Efforts))
+		data := make([]opts.LineData, 0, len(c.Efforts)+1)
+		// The threshold is a point of the curve too: at R = 1 every chain dies out.
+		th := s.Threshold.Estimate
 		for i, e := range c.Efforts {
 			if i >= len(s.Extinction) {
 				break
+			}
+			if th != nil && *th > 0 && (i == 0 || c.Efforts[i-1] < *th) && e > *th {
+				data = append(data, opts.LineData{Value: []any{round(100*f.v(*th, "a threshold"), 2), 100}})
 			}
 			y := any("-")
 			if p := s.Extinction[i].Estimate; p != nil {

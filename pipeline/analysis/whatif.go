@@ -15,18 +15,10 @@ import (
 	"github.com/caseweave/caseweave/pipeline/offspring"
 )
 
-// ControlEffortStep is the spacing of the control efforts of Summary.Control, from 0 to 1.
-const ControlEffortStep = 0.05
-
-// controlEfforts is the grid 0, ControlEffortStep, …, 1.
-func controlEfforts() []float64 {
-	n := int(math.Round(1 / ControlEffortStep))
-	out := make([]float64, n+1)
-	for i := range out {
-		out[i] = math.Round(float64(i)*ControlEffortStep*1e9) / 1e9
-	}
-	return out
-}
+// ControlEfforts are the control efforts of Summary.Control: every 1% up to 5%, where
+// targeting the most infectious cases already changes most when k is small, then coarser
+// steps to 1.
+var ControlEfforts = []float64{0, 0.01, 0.02, 0.03, 0.04, 0.05, 0.075, 0.1, 0.125, 0.15, 0.2, 0.25, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1}
 
 // controlReplicates caps the bootstrap replicates behind the control intervals: each one
 // costs an extinction root at every effort of three strategies (about 0.3 ms in all, the
@@ -56,7 +48,7 @@ func (a *run) control() {
 	}
 	point := a.boot.Estimate
 	d := a.family.Distribution(point)
-	ctl := &Control{Model: d.Name(), Efforts: controlEfforts(), Replicates: min(len(a.boot.Replicates), controlReplicates),
+	ctl := &Control{Model: d.Name(), Efforts: slices.Clone(ControlEfforts), Replicates: min(len(a.boot.Replicates), controlReplicates),
 		AboveOne: d.Mean() > 1}
 	for _, name := range branching.ControlStrategies {
 		if _, err := branching.Controlled(d, name, 0); err != nil {
