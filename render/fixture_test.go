@@ -260,6 +260,7 @@ func hostileSummary() *analysis.Summary {
 	s.EpiCurve.Series[0].Name = hostileStrings[1]
 	s.EpiCurve.Series[1].Name = hostileStrings[8]
 	s.AgeMixing.Groups[0] = hostileStrings[1]
+	s.Multitype.Groups[0] = hostileStrings[1]
 	s.Clusters.Largest[0].Nodes[1].Setting = hostileStrings[1]
 	s.Offspring.Models[0].Name = hostileStrings[4]
 	s.Offspring.Superspreaders = append(s.Offspring.Superspreaders, hostileStrings[9])

@@ -123,6 +123,20 @@ func TestControlSummary(t *testing.T) {
 			}
 		}
 	}
+	for _, st := range c.Strategies {
+		for i, e := range st.Extinction {
+			lo, hi := e.Percentile[0], e.Percentile[1]
+			if lo == nil || hi == nil || *lo > *e.Estimate+1e-12 || *hi < *e.Estimate-1e-12 || *hi > 1 {
+				t.Errorf("%s c=%g: extinction %v outside its interval %v–%v", st.Name, c.Efforts[i], *e.Estimate, lo, hi)
+			}
+		}
+		// R_c falls with effort at every bound.
+		for i := 1; i < len(st.R); i++ {
+			if *st.R[i].Percentile[1] > *st.R[i-1].Percentile[1]+1e-12 {
+				t.Errorf("%s: upper R bound rises from %v to %v", st.Name, *st.R[i-1].Percentile[1], *st.R[i].Percentile[1])
+			}
+		}
+	}
 	if !(*c.Strategies[2].Threshold.Estimate < *c.Strategies[1].Threshold.Estimate) {
 		t.Errorf("targeted threshold %v not below random %v", *c.Strategies[2].Threshold.Estimate, *c.Strategies[1].Threshold.Estimate)
 	}
