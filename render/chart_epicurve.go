@@ -2,6 +2,7 @@ package render
 
 import (
 	"fmt"
+	"slices"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
 	"github.com/go-echarts/go-echarts/v2/charts"
@@ -33,19 +34,37 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 		charts.WithXAxisOpts(xAxis("category", "ISO week of symptom onset")),
 		charts.WithYAxisOpts(yAxis("value", "Cases")))...)
 	bar.SetXAxis(labels)
+	incomplete := st.incompleteWeeks(e)
+	// bar is one week's bar: a week not yet complete is drawn lighter.
+	barOf := func(i int, v any) opts.BarData {
+		d := opts.BarData{Value: v}
+		if incomplete[i] {
+			d.ItemStyle = &opts.ItemStyle{Opacity: opts.Float(incompleteOpacity)}
+		}
+		return d
+	}
 	known := make([]int, len(e.Weeks))
 	for _, sr := range e.Series {
 		if len(sr.Counts) != len(e.Weeks) {
 			return nil, "", fmt.Errorf("chart %q: series %q has %d counts for %d weeks", "epicurve", sr.Name, len(sr.Counts), len(e.Weeks))
 		}
 		data := make([]opts.BarData, len(sr.Counts))
+		drawn := false
 		for i, c := range sr.Counts {
-			data[i] = opts.BarData{Value: countValue(c)}
+			data[i] = barOf(i, countValue(c))
 			if c != nil {
 				known[i] += *c
+				drawn = drawn || *c > 0
 			}
 		}
-		bar.AddSeries(sr.Name, data, charts.WithSeriesOpts(func(s *charts.SingleSeries) { s.Stack = "cases" }))
+		if !drawn {
+			continue // every count of it is withheld or zero: no bar, so no legend entry
+		}
+		colour := st.categoryColour(sr.Name)
+		bar.AddSeries(sr.Name, data, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+			s.Stack = "cases"
+			s.ItemStyle = &opts.ItemStyle{Color: colour}
+		}))
 	}
 	// The counts withheld in a week whose total is shown are drawn together in grey: the
 	// release keeps their sum at the threshold or above. A week whose total is withheld
@@ -61,7 +80,7 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 			withheldBands = append(withheldBands, []any{map[string]any{"xAxis": labels[i], "name": withheldText}, map[string]any{"xAxis": labels[i]}})
 		case *e.Total[i] > known[i]:
 			anySmall = true
-			small[i] = opts.BarData{Value: *e.Total[i] - known[i]}
+			small[i] = barOf(i, *e.Total[i]-known[i])
 		}
 	}
 	if anySmall || anyWithheld || len(e.Series) == 0 {
@@ -84,6 +103,9 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 	}
 	obj, err := finish("epicurve", f, bar, nil)
 	caption := "Each bar is one ISO week (Monday to Sunday) of symptom onset, stacked by setting."
+	if slices.Contains(incomplete, true) {
+		caption += " Lighter bars are weeks not complete on the analysis date: later reports will add to them."
+	}
 	if anySmall {
 		caption += fmt.Sprintf(" Counts withheld to protect privacy (fewer than %d cases, and the counts that would let them be worked out) are combined in grey.", st.threshold())
 	}
@@ -91,4 +113,20 @@ func (st *renderState) chartEpiCurve(e *analysis.EpiCurve) ([]chartSpec, string,
 		caption += " Shaded weeks are withheld altogether: too few cases to show."
 	}
 	return one(chartSpec{ID: id, Title: "Cases by week of symptom onset", Caption: caption, Height: chartHeight, Option: obj}, err)
+}
+
+// incompleteOpacity is how a week not yet complete is drawn: lighter, so that it does not
+// read as a fall.
+const incompleteOpacity = 0.4
+
+// incompleteWeeks marks the weeks of the epidemic curve from the Assessment's first
+// incomplete week on.
+func (st *renderState) incompleteWeeks(e *analysis.EpiCurve) []bool {
+	out := make([]bool, len(e.Weeks))
+	if as := st.s.Assessment; as != nil && as.IncompleteFrom != nil {
+		for i, w := range e.Weeks {
+			out[i] = w >= *as.IncompleteFrom
+		}
+	}
+	return out
 }

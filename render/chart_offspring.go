@@ -5,6 +5,7 @@ import (
 	"strconv"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/go-echarts/go-echarts/v2/charts"
 	"github.com/go-echarts/go-echarts/v2/opts"
 )
@@ -28,31 +29,115 @@ func (st *renderState) chartOffspring(o *analysis.Offspring) ([]chartSpec, strin
 		labels[i] = strconv.Itoa(i)
 		obs[i] = opts.BarData{Value: c}
 	}
+	logScale := st.offspringLogScale(o.Histogram)
+	ya := yAxis("value", "Cases")
+	if logScale {
+		// Counts from 1 up; a model's expectation below a tenth of a case is not drawn.
+		ya.Type, ya.Min = "log", logFloor
+		for i, c := range o.Histogram {
+			if c == 0 {
+				obs[i] = opts.BarData{Value: "-"}
+			}
+		}
+	}
 	bar := charts.NewBar()
 	bar.SetGlobalOptions(append(baseOpts(id, chartHeight, "axis", true),
 		charts.WithXAxisOpts(xAxis("category", "Number of people a case infected")),
-		charts.WithYAxisOpts(yAxis("value", "Cases")))...)
+		charts.WithYAxisOpts(ya))...)
 	bar.SetXAxis(labels)
-	bar.AddSeries("Observed", obs, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
-		s.ItemStyle = &opts.ItemStyle{Color: colLight, BorderColor: colMuted, BorderWidth: 1}
-		s.BarCategoryGap = "20%"
-	}))
-	for _, m := range o.Models {
+	if logScale {
+		// ECharts starts bars on a logarithmic axis at 1, where a count of 1 (the tail this
+		// scale is for) would have no height: the counts are drawn as marks instead.
+		marks := make([]opts.LineData, len(obs))
+		for i := range obs {
+			marks[i] = opts.LineData{Value: obs[i].Value}
+		}
+		dots := charts.NewLine()
+		dots.AddSeries("Observed", marks, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+			s.Symbol = "rect"
+			s.SymbolSize = 11
+			s.LineStyle = &opts.LineStyle{Width: 0, Opacity: opts.Float(0)}
+			s.ItemStyle = &opts.ItemStyle{Color: colInk}
+		}))
+		bar.Overlap(dots)
+	} else {
+		bar.AddSeries("Observed", obs, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
+			s.ItemStyle = &opts.ItemStyle{Color: colLight, BorderColor: colMuted, BorderWidth: 1}
+			s.BarCategoryGap = "20%"
+		}))
+	}
+	for k, m := range o.Models {
 		data := make([]opts.LineData, len(o.Histogram))
 		for i := range data {
 			data[i] = opts.LineData{Value: "-"}
 			if i < len(m.Expected) {
-				data[i] = opts.LineData{Value: round(f.v(m.Expected[i], "expected count of "+m.Name), 3)}
+				v := round(f.v(m.Expected[i], "expected count of "+m.Name), 3)
+				if !logScale || v >= logFloor {
+					data[i] = opts.LineData{Value: v}
+				}
 			}
 		}
+		style := modelStyle(m.Name, k)
 		line := charts.NewLine()
 		line.AddSeries("Expected, "+modelName(m.Name), data, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
-			s.Symbol = "circle"
-			s.SymbolSize = 5
+			s.Symbol = style.symbol
+			s.SymbolSize = 6
+			s.LineStyle = &opts.LineStyle{Color: style.colour, Type: style.dash, Width: 2}
+			s.ItemStyle = &opts.ItemStyle{Color: style.colour}
 		}))
 		bar.Overlap(line)
 	}
 	obj, err := finish("offspring", f, bar, nil)
 	caption := fmt.Sprintf("Bars: number of cases (of %d counted) that infected 0, 1, 2, … others. Lines: counts each fitted model expects.", o.N)
+	if logScale {
+		caption = fmt.Sprintf("Squares: number of cases (of %d counted) that infected 0, 1, 2, … others; none is drawn where no case did. Lines: counts each fitted model expects. The count axis is logarithmic, so that the few cases that infected many stay visible; an expectation below 0.1 cases is not drawn.", o.N)
+	}
 	return one(chartSpec{ID: id, Title: "Offspring distribution with fitted models", Caption: caption, Height: chartHeight, Option: obj}, err)
+}
+
+// logFloor is the foot of a logarithmic count axis.
+const logFloor = 0.1
+
+// offspringLogScale decides the count axis of the offspring chart: config.yaml's
+// offspring_scale ("log" or "linear"), else logarithmic when the tail is long, that is when
+// the tallest bar is at least longTail times the shortest bar above zero (on a linear axis
+// such a bar is under a pixel or two high at the chart's height; the ratio is common
+// practice for choosing a log axis, not a published rule).
+func (st *renderState) offspringLogScale(hist []int) bool {
+	switch st.cfg.OffspringScale {
+	case "log":
+		return true
+	case "linear":
+		return false
+	}
+	const longTail = 50
+	tallest, shortest := 0, 0
+	for _, c := range hist {
+		if c > 0 {
+			tallest = max(tallest, c)
+			if shortest == 0 || c < shortest {
+				shortest = c
+			}
+		}
+	}
+	return shortest > 0 && tallest >= longTail*shortest
+}
+
+// lineStyle is how one fitted model is drawn: its own colour, dash and symbol, so that
+// models stay apart on screen and in greyscale print.
+type lineStyle struct{ colour, dash, symbol string }
+
+// modelStyle is the style of a fitted model by its name; a model without one of its own
+// takes a palette colour by its place k among the fits.
+func modelStyle(name string, k int) lineStyle {
+	switch name {
+	case offspring.NameNegativeBinomial:
+		return lineStyle{"#1f5c6e", "solid", "circle"}
+	case offspring.NamePoisson:
+		return lineStyle{colAccent, "dashed", "triangle"}
+	case offspring.NameGeometric:
+		return lineStyle{"#c4893a", "dotted", "rect"}
+	}
+	pal := categoryPalette()
+	return lineStyle{pal[k%len(pal)], "solid", "diamond"}
 }

@@ -142,6 +142,16 @@ func baseOpts(id string, height int, trigger string, legend bool) []charts.Globa
 	}
 }
 
+// gridRight is a finish patch that widens the right margin of a chart's one grid to px
+// pixels (go-echarts adds a second grid rather than replace the first).
+func gridRight(px int) func(map[string]any) {
+	return func(obj map[string]any) {
+		if gs, ok := obj["grid"].([]opts.Grid); ok && len(gs) > 0 {
+			gs[0].Right = strconv.Itoa(px)
+		}
+	}
+}
+
 func xAxis(typ, name string) opts.XAxis {
 	return opts.XAxis{Type: typ, Name: name, NameLocation: "middle", NameGap: 28,
 		SplitLine: &opts.SplitLine{Show: opts.Bool(false)}}

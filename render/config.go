@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io/fs"
 	"os"
+	"regexp"
 	"slices"
 	"strings"
 
@@ -93,6 +94,11 @@ type Config struct {
 	IncubationDays *int
 	// PseudonymKey keys the hash that replaces case identifiers. It never appears in output.
 	PseudonymKey string
+	// Colours pins a chart colour (#rrggbb) to a category value, such as a setting.
+	Colours map[string]string
+	// OffspringScale is the count axis of the offspring chart: "log", "linear", or ""
+	// (logarithmic when the tail is long; see offspringLogScale).
+	OffspringScale string
 }
 
 // DefaultConfig is the configuration of a template folder without a config.yaml.
@@ -173,7 +179,40 @@ var configKeys = []configKey{
 		return nil
 	}},
 	{"pseudonym_key", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "pseudonym_key", &c.PseudonymKey) }},
+	{"offspring_scale", func(c *Config, v *yaml.Node) error {
+		if err := decodeScalar(v, "offspring_scale", &c.OffspringScale); err != nil {
+			return err
+		}
+		if c.OffspringScale != "log" && c.OffspringScale != "linear" && c.OffspringScale != "auto" {
+			return configErr(v.Line, "offspring_scale must be log, linear or auto, not %q", c.OffspringScale)
+		}
+		if c.OffspringScale == "auto" {
+			c.OffspringScale = ""
+		}
+		return nil
+	}},
+	{"colours", func(c *Config, v *yaml.Node) error {
+		if v.Kind != yaml.MappingNode {
+			return configErr(v.Line, "colours must map category values to colours (school: \"#1f5c6e\")")
+		}
+		c.Colours = map[string]string{}
+		for i := 0; i+1 < len(v.Content); i += 2 {
+			k := v.Content[i]
+			var col string
+			if err := decodeScalar(v.Content[i+1], "colours."+k.Value, &col); err != nil {
+				return err
+			}
+			if !hexColour.MatchString(col) {
+				return configErr(v.Content[i+1].Line, "colours.%s must be a colour written #rrggbb, not %q", k.Value, col)
+			}
+			c.Colours[k.Value] = strings.ToLower(col)
+		}
+		return nil
+	}},
 }
+
+// hexColour is a colour as config.yaml writes it.
+var hexColour = regexp.MustCompile(`^#[0-9a-fA-F]{6}$`)
 
 // ParseConfig parses the bytes of a config.yaml; name is the file named in errors.
 func ParseConfig(name string, data []byte) (Config, error) {

@@ -108,7 +108,8 @@ func fixtureSummary() *analysis.Summary {
 
 	var curve []analysis.DayProbability
 	for i := 0; i <= 60; i++ {
-		curve = append(curve, analysis.DayProbability{Date: day("2024-03-20") + linelist.Day(i), Probability: 1 - math.Exp(-float64(i)/9)})
+		curve = append(curve, analysis.DayProbability{Date: day("2024-03-20") + linelist.Day(i), Probability: 1 - math.Exp(-float64(i)/9),
+			Lower: fp(1 - math.Exp(-float64(i)/12)), Upper: fp(1 - math.Exp(-float64(i)/7))})
 	}
 	var density []analysis.CurvePoint
 	for i := 0; i <= 60; i++ {
@@ -158,6 +159,8 @@ func fixtureSummary() *analysis.Summary {
 		Outlook: &analysis.Outlook{
 			Model: "negative binomial", ExtinctionProbability: est(1, 1, 1, 1, 1), MajorOutbreakProbability: est(0, 0, 0, 0, 0),
 			ShareCausing80pct: est(0.19, 0.15, 0.24, 0.15, 0.25), SSEThreshold: 4, Active: 57,
+			CurrentChains: &analysis.CurrentChains{DieOut: est(0.93, 0.71, 0.99, 0.70, 0.99), Pending: est(31.2, 22.0, 44.1, 21.5, 45.0),
+				Further: analysis.Estimate{Estimate: fp(310), Percentile: [2]*float64{fp(140), nil}, BCa: [2]*float64{fp(150), nil}}},
 			Projection: []analysis.Projection{
 				{Generation: 1, Mean: fp(45.6), P50: [2]*int{ip(36), ip(53)}, P90: [2]*int{ip(25), ip(70)}, PZero: 0},
 				{Generation: 2, Mean: fp(36.5), P50: [2]*int{ip(26), ip(45)}, P90: [2]*int{ip(14), ip(64)}, PZero: 0.001},
@@ -184,6 +187,7 @@ func fixtureSummary() *analysis.Summary {
 		TimeVarying:   wr,
 		InferredLinks: &analysis.InferredLinks{Inferred: 38, NoCandidate: 4},
 		EndOfOutbreak: &analysis.EndOfOutbreak{Curve: curve, P95Date: dp("2024-04-16"), P99Date: dp("2024-05-01"), LastOnset: day("2024-03-20"),
+			P95Range:    [2]*linelist.Day{dp("2024-04-10"), dp("2024-04-24")},
 			RuleOfThumb: &analysis.RuleOfThumb{LongestIncubationDays: 14, Date: day("2024-04-17")}},
 		EpiCurve: &analysis.EpiCurve{Weeks: weeks, Total: total, Series: []analysis.Series{
 			series("household", households), series("school", schools), series("care home", care)}},

@@ -55,6 +55,7 @@ func (st *renderState) funcs() template.FuncMap {
 		"jurisdiction": func() mdText {
 			return mdText(escapeMarkdown(st.cfg.Jurisdiction))
 		},
+		"place":         func() mdText { return mdText(escapeMarkdown(st.place())) },
 		"contact":       func() mdText { return mdText(escapeMarkdown(st.cfg.Contact)) },
 		"caution":       st.fnCaution,
 		"caseid":        func(id string) mdText { return mdText(escapeMarkdown(id)) },
@@ -167,7 +168,7 @@ func (st *renderState) headline(e analysis.Estimate) [2]*float64 {
 }
 
 // estimateText formats an estimate with its headline interval: "0.80 (95% CI 0.74–0.88)".
-// A missing bound reads "no upper bound"/"no lower bound"; a missing estimate "not estimable".
+// A missing bound is said in words (boundsText); a missing estimate reads "not estimable".
 func (st *renderState) estimateText(e analysis.Estimate, digits int, percent bool) string {
 	f := func(x float64) string {
 		if percent {
@@ -180,17 +181,10 @@ func (st *renderState) estimateText(e analysis.Estimate, digits int, percent boo
 	}
 	b := st.headline(e)
 	out := f(*e.Estimate) + " (" + st.levelText() + " CI "
-	switch {
-	case b[0] != nil && b[1] != nil:
-		out += f(*b[0]) + "–" + f(*b[1])
-	case b[0] != nil:
-		out += f(*b[0]) + " to no upper bound"
-	case b[1] != nil:
-		out += "up to " + f(*b[1])
-	default:
-		out += "not available"
+	if b[0] == nil && b[1] == nil {
+		return out + "not available)"
 	}
-	return out + ")"
+	return out + boundsText(b, f, "–") + ")"
 }
 
 func (st *renderState) fnEst(e analysis.Estimate, digits int, percent bool) (mdText, error) {
@@ -286,6 +280,21 @@ func fnPlural(n any, one, many string) (mdText, error) {
 func (st *renderState) fnTitle(section string) (mdText, error) {
 	t, err := st.cfg.title(section)
 	return mdText(escapeMarkdown(t)), err
+}
+
+// place names what the report covers, for its title: the configured jurisdiction, and the
+// value of a report of a batch (--by) when it is not that name already ("Vell Estuary
+// Health Board — school"); either alone when the other is missing.
+func (st *renderState) place() string {
+	j := st.cfg.Jurisdiction
+	sc := st.s.Scope
+	switch {
+	case sc == nil || sc.Value == j:
+		return j
+	case j == "":
+		return sc.Value
+	}
+	return j + " — " + sc.Value
 }
 
 // fnCaution prints the configured caution text (or the default), escaped, keeping its

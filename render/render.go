@@ -32,18 +32,24 @@ type Options struct {
 	// Charts names the charts to draw (see ChartNames); nil draws all. A chart left out is
 	// replaced by a one-line note.
 	Charts []string
+	// Categories lists every value of the category columns the charts colour by (the
+	// settings) across a batch of reports, in one order, so that a value has one colour in
+	// every report of the batch (CategoryColour); nil takes the values of this report.
+	Categories []string
 }
 
 // renderState is everything one render needs; nothing outlives the call.
 type renderState struct {
-	s        *analysis.Summary
-	cfg      Config
-	charts   []string
-	set      *texttemplate.Template
-	depth    int
-	blocks   []*block
-	chartSeq int
-	errs     []error
+	s      *analysis.Summary
+	cfg    Config
+	charts []string
+	// categories are the category values in batch order (Options.Categories, categoryList).
+	categories []string
+	set        *texttemplate.Template
+	depth      int
+	blocks     []*block
+	chartSeq   int
+	errs       []error
 }
 
 // Render executes the report template over the released view r (analysis.Release: the
@@ -74,7 +80,7 @@ func Render(r *analysis.Released, opts Options) ([]byte, error) {
 			return nil, fmt.Errorf("render: unknown chart %q (known: %s)", c, strings.Join(ChartNames(), ", "))
 		}
 	}
-	st := &renderState{s: s, cfg: cfg, charts: opts.Charts}
+	st := &renderState{s: s, cfg: cfg, charts: opts.Charts, categories: opts.Categories}
 	set, err := parseFolder(fsys, st.funcs())
 	if err != nil {
 		return nil, err
@@ -216,8 +222,8 @@ func pageHTML(st *renderState, body []byte, css template.CSS) ([]byte, error) {
 		}
 	}
 	title := "Transmission report"
-	if st.cfg.Jurisdiction != "" {
-		title += " — " + st.cfg.Jurisdiction
+	if p := st.place(); p != "" {
+		title += " — " + p
 	}
 	title += " — data to " + dayText(st.s.AsOf)
 	var out bytes.Buffer

@@ -64,7 +64,8 @@ func TestNumberFormats(t *testing.T) {
 		{"negative", formatNumber(-1234, 0), "-1,234"},
 		{"estimate, bca headline", st.estimateText(e, 2, false), "0.80 (95% CI 0.70–0.90)"},
 		{"estimate as percent", st.estimateText(e, 0, true), "80% (95% CI 70%–90%)"},
-		{"open upper bound", st.estimateText(analysis.Estimate{Estimate: fp(3), BCa: [2]*float64{fp(1), nil}}, 1, false), "3.0 (95% CI 1.0 to no upper bound)"},
+		{"open upper bound", st.estimateText(analysis.Estimate{Estimate: fp(3), BCa: [2]*float64{fp(1), nil}}, 1, false), "3.0 (95% CI from 1.0, no upper limit can be given)"},
+		{"open lower bound", st.estimateText(analysis.Estimate{Estimate: fp(3), BCa: [2]*float64{nil, fp(4)}}, 1, false), "3.0 (95% CI up to 4.0, no lower limit can be given)"},
 		{"no estimate", st.estimateText(analysis.Estimate{}, 2, false), "not estimable"},
 		{"interval", intervalText([2]*float64{fp(6.6), nil}, 1), "from 6.6, no upper limit can be given"},
 		{"interval without lower", intervalText([2]*float64{nil, fp(2)}, 1), "up to 2.0, no lower limit can be given"},
@@ -217,5 +218,25 @@ func TestUnclosedActionNamesItsLine(t *testing.T) {
 	var te *TemplateError
 	if !errors.As(err, &te) || te.Line != 3 || !strings.Contains(err.Error(), "{{ with }} opened on line 3 has no {{ end }}") {
 		t.Errorf("error %v", err)
+	}
+}
+
+func TestCategoryColours(t *testing.T) {
+	batch := []string{"care home", "event", "household", "school"}
+	a := &renderState{s: &analysis.Summary{}, categories: batch}
+	b := &renderState{s: &analysis.Summary{}, categories: batch, cfg: Config{Colours: map[string]string{"school": "#123456"}}}
+	if a.categoryColour("event") != b.categoryColour("event") || a.categoryColour("household") == a.categoryColour("event") {
+		t.Errorf("event %s / %s, household %s", a.categoryColour("event"), b.categoryColour("event"), a.categoryColour("household"))
+	}
+	if got := b.categoryColour("school"); got != "#123456" {
+		t.Errorf("a pinned colour: got %s", got)
+	}
+	for _, v := range batch {
+		if a.categoryColour(v) == colMuted {
+			t.Errorf("%s takes the grey of the combined small groups", v)
+		}
+	}
+	if _, err := ParseConfig("config.yaml", []byte("colours:\n  school: blue\n")); err == nil || !strings.Contains(err.Error(), "line 2") {
+		t.Errorf("a colour that is not #rrggbb: %v", err)
 	}
 }

@@ -14,15 +14,15 @@ func newCheckCmd(e env) *cobra.Command {
 	var in inputFlags
 	var strict bool
 	c := &cobra.Command{
-		Use:   "check [flags] LINELIST.csv",
+		Use:   "check [flags] LINELIST...",
 		Short: "Read and validate a line list; report its problems and its transmission trees",
 		Long: `check reads the line list, accounts for every row (used, or rejected with its line number
 and the reason), rebuilds the transmission forest and prints a data-quality summary.
 It exits 0 when the file can be analysed (row-level problems are listed, not fatal) and 1
 when it cannot; with --strict any error-severity problem also exits 1.`,
-		Args: exactArgs(1, "one line-list file"),
+		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
-			ld, err := in.load(args[0])
+			ld, err := in.load(e, args)
 			if err != nil {
 				return err
 			}
@@ -55,8 +55,9 @@ func checkJSON(s *analysis.Summary) any {
 }
 
 func printCheck(w io.Writer, s *analysis.Summary) {
-	fmt.Fprintf(w, "Line list  %s\n", s.Input.Path)
-	fmt.Fprintf(w, "SHA-256    %s\n", s.Input.SHA256)
+	for _, f := range s.Input.Files {
+		printInputFile(w, f, len(s.Input.Files) > 1)
+	}
 	fmt.Fprintf(w, "As of      %s\n\n", s.AsOf)
 	fmt.Fprintf(w, "Rows read  %8d\n", s.Input.Rows)
 	fmt.Fprintf(w, "Used       %8d\n", s.Input.Used)
@@ -65,14 +66,11 @@ func printCheck(w io.Writer, s *analysis.Summary) {
 		fmt.Fprintln(w, "Problems   none")
 	} else {
 		fmt.Fprintln(w, "Problems")
-		fmt.Fprintf(w, "  %-22s %-8s %7s  %s\n", "code", "severity", "count", "first lines")
+		fmt.Fprintf(w, "  %-22s %-8s %7s  %s\n", "code", "severity", "count", "first places")
 		for _, p := range s.ProblemCounts {
-			rows := make([]string, len(p.FirstRows))
-			for i, r := range p.FirstRows {
-				rows[i] = fmt.Sprint(r)
-			}
+			rows := p.FirstPlaces
 			more := ""
-			if p.Count > len(p.FirstRows) && len(p.FirstRows) > 0 {
+			if p.Count > len(rows) && len(rows) > 0 {
 				more = ", …"
 			}
 			fmt.Fprintf(w, "  %-22s %-8s %7d  %s%s\n", p.Code, p.Severity, p.Count, strings.Join(rows, ", "), more)
@@ -83,6 +81,42 @@ func printCheck(w io.Writer, s *analysis.Summary) {
 	fmt.Fprintln(w, "\nTransmission forest")
 	fmt.Fprintf(w, "  cases %d, linked to an infector %d (%s), imported %d\n", t.Cases, t.Linked, percent(t.Linked, t.Cases), t.Imported)
 	fmt.Fprintf(w, "  trees %d, largest %d cases, deepest %d generations\n", t.Clusters, t.LargestCluster, t.MaxGeneration)
+}
+
+// printInputFile says how one file was read: its format, the sheet chosen and why, the
+// header's line, and with several files its own row counts.
+func printInputFile(w io.Writer, f analysis.InputFile, counts bool) {
+	fmt.Fprintf(w, "Line list  %s\n", f.Path)
+	fmt.Fprintf(w, "SHA-256    %s\n", f.SHA256)
+	format := f.Format
+	if f.Gzip {
+		format += ", gzip-compressed"
+	}
+	if f.DateSystem != "" {
+		format += ", " + f.DateSystem + " date system"
+	}
+	fmt.Fprintf(w, "Format     %s\n", format)
+	if f.Note != "" {
+		fmt.Fprintf(w, "Note       %s\n", f.Note)
+	}
+	if f.Sheet != "" {
+		fmt.Fprintf(w, "Sheet      %s (%s)\n", f.Sheet, f.SheetReason)
+		fmt.Fprintf(w, "Header     row %d\n", f.HeaderRow)
+	} else {
+		fmt.Fprintf(w, "Header     line %d\n", f.HeaderRow)
+	}
+	if counts {
+		fmt.Fprintf(w, "Rows       %s read, %s used, %s rejected\n", countText(f.Rows), countText(f.Used), countText(f.Rejected))
+	}
+	fmt.Fprintln(w)
+}
+
+// countText prints a count a released view may withhold.
+func countText(n *int) string {
+	if n == nil {
+		return "withheld"
+	}
+	return fmt.Sprint(*n)
 }
 
 func percent(a, b int) string {

@@ -63,6 +63,9 @@ func TestDemoReportsInBrowser(t *testing.T) {
 		if pc.RequestsAttempted != 0 {
 			t.Errorf("%s: %d requests left the page: %v", name, pc.RequestsAttempted, pc.RequestURLs)
 		}
+		for _, c := range pc.Clipped {
+			t.Errorf("%s: chart text drawn outside its chart: %s", name, c)
+		}
 	}
 	// Run again into the same folder (the summary records the line list's path) and compare.
 	names := append(reports, "index.html", "vell-estuary-linelist.csv", "ostvale.json")

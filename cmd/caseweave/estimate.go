@@ -123,16 +123,16 @@ func progressAfter(e env, delay time.Duration) func(done, total int) {
 func newEstimateCmd(e env) *cobra.Command {
 	var f estimateFlags
 	c := &cobra.Command{
-		Use:   "estimate [flags] LINELIST.csv",
+		Use:   "estimate [flags] LINELIST...",
 		Short: "Estimate the offspring distribution (R, k) with bootstrap intervals, and the outlook",
 		Long: `estimate fits Poisson, geometric and negative-binomial offspring distributions to the
 offspring counts of the cases outside the censoring window, by maximum likelihood; picks the
 best by AIC; gives percentile and BCa bootstrap intervals for R, k and the quantities derived
 from them (extinction probability, share of cases causing 80% of transmission); fits R and k
 from cluster sizes alone; and projects the next generations.`,
-		Args: exactArgs(1, "one line-list file"),
+		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
-			ld, err := f.load(args[0])
+			ld, err := f.load(e, args)
 			if err != nil {
 				return err
 			}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"io"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -17,6 +18,7 @@ type inputFlags struct {
 	config       string
 	asOf         string
 	maxRows      int
+	sheet        string
 	jsonOut      string
 	internalJSON string
 }
@@ -26,7 +28,8 @@ func (f *inputFlags) register(c *cobra.Command) {
 	c.Flags().StringVar(&f.jsonOut, "json", "", "write the summary as JSON to FILE (- for stdout): the released view, small counts withheld and identifiers replaced as in a report")
 	c.Flags().StringVar(&f.internalJSON, "internal-json", "", "write the full, unsuppressed summary to FILE (- for stdout; with report --by, a folder of <slug>.json): it holds case-level data — identifiers, exact dates, small counts, problem messages quoting the rows — and must stay with the analyst")
 	c.Flags().StringVar(&f.asOf, "as-of", "", "analysis date YYYY-MM-DD (default today); onsets after it are flagged, recent cases censored")
-	c.Flags().IntVar(&f.maxRows, "max-rows", 0, "refuse files with more data rows than this (0: no limit)")
+	c.Flags().IntVar(&f.maxRows, "max-rows", 0, "refuse input with more data rows than this, all files and formats together (0: no limit)")
+	c.Flags().StringVar(&f.sheet, "sheet", "", "workbook sheet to read, by name or 1-based position (default: the only sheet, or the first whose header has the required columns)")
 }
 
 // analysisDate parses --as-of, defaulting to today's date.
@@ -43,15 +46,16 @@ func (f *inputFlags) analysisDate() (linelist.Day, error) {
 
 // loaded is a line list read, validated and linked into a forest.
 type loaded struct {
-	path   string
+	path   string // the file read, or the files joined by ", "
 	asOf   linelist.Day
 	config *render.Config // the --config file, nil without one
 	list   *linelist.LineList
 	forest *forest.Forest
 }
 
-// load reads and links the line list at path. Errors that make the file unusable exit 1.
-func (f *inputFlags) load(path string) (*loaded, error) {
+// load reads the line-list files at paths ("-": standard input) as one line list and links
+// it. Errors that make the input unusable exit 1.
+func (f *inputFlags) load(e env, paths []string) (*loaded, error) {
 	asOf, err := f.analysisDate()
 	if err != nil {
 		return nil, err
@@ -68,11 +72,15 @@ func (f *inputFlags) load(path string) (*loaded, error) {
 		}
 		cfg, in = &c, c.Input
 	}
-	ll, err := linelist.ReadFile(path, linelist.Options{Input: in, AsOf: asOf, MaxRows: f.maxRows})
+	ll, err := linelist.ReadFiles(paths, linelist.Options{Input: in, AsOf: asOf, MaxRows: f.maxRows, Sheet: f.sheet, Stdin: e.stdin})
 	if err != nil {
 		return nil, withCode(exitInput, err) // a *linelist.FileError names the file itself
 	}
-	return &loaded{path: path, asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
+	names := make([]string, len(ll.Sources))
+	for i := range ll.Sources {
+		names[i] = ll.Sources[i].Name()
+	}
+	return &loaded{path: strings.Join(names, ", "), asOf: asOf, config: cfg, list: ll, forest: forest.BuildIndexed(ll.Cases, ll.ByID)}, nil
 }
 
 // writeJSONs writes the --json (released) and --internal-json (full) documents of a command

@@ -54,6 +54,7 @@ func usageErrorf(format string, a ...any) error {
 
 // env is what a command may touch of the outside world; tests pass their own.
 type env struct {
+	stdin            io.Reader // what the line-list path - reads; nil is the process's standard input
 	stdout, stderr   io.Writer
 	stderrIsTerminal bool
 	// writeFault, in tests, fails or interrupts the n-th step of writing the outputs.
@@ -69,7 +70,7 @@ func main() {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		debug.SetMemoryLimit(defaultMemoryLimit)
 	}
-	os.Exit(run(os.Args[1:], env{stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}))
+	os.Exit(run(os.Args[1:], env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}))
 }
 
 // run executes one command line and returns the exit code. It never panics on bad input;
@@ -126,6 +127,14 @@ branching-process outlook, and writes a self-contained HTML report.`,
 	root.CompletionOptions.DisableDefaultCmd = true
 	root.AddCommand(newCheckCmd(e), newEstimateCmd(e), newOutlookCmd(e), newReportCmd(e), newDemoCmd(e), newSimulateCmd(e), newTemplateCmd(e))
 	return root
+}
+
+// lineListArgs accepts one or more line-list files, with a usage exit code.
+func lineListArgs(c *cobra.Command, args []string) error {
+	if len(args) == 0 {
+		return usageErrorf("%s needs one or more line-list files (- for standard input); see '%s --help'", c.CommandPath(), c.CommandPath())
+	}
+	return nil
 }
 
 // exactArgs is cobra.ExactArgs with a usage exit code and a plainer message.

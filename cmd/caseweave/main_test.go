@@ -49,7 +49,7 @@ func TestCheckExitCodes(t *testing.T) {
 		{"header only", []string{"check", headerOnly}, exitInput, "no data rows"},
 		{"binary file", []string{"check", binary}, exitInput, ""},
 		{"no such file", []string{"check", filepath.Join(dir, "nope.csv")}, exitInput, "nope.csv"},
-		{"no argument", []string{"check"}, exitUsage, "one line-list file"},
+		{"no argument", []string{"check"}, exitUsage, "one or more line-list files"},
 		{"unknown flag", []string{"check", "--bogus", good}, exitUsage, "unknown flag"},
 		{"bad as-of", []string{"check", "--as-of", "03/04/2026", good}, exitUsage, "YYYY-MM-DD"},
 		{"unknown command", []string{"frobnicate"}, exitUsage, "unknown command"},

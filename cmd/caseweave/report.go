@@ -28,13 +28,15 @@ import (
 // reportFlags are report's own flags, on top of estimate's.
 type reportFlags struct {
 	estimateFlags
-	template  string
-	out       string
-	tablesDir string
-	by        string
-	pdf       bool
-	showIDs   bool
-	incub     int
+	// categories are the settings of the whole line list, which colour every report alike.
+	categories []string
+	template   string
+	out        string
+	tablesDir  string
+	by         string
+	pdf        bool
+	showIDs    bool
+	incub      int
 	// templateConfig is set when the config was taken from the --template folder.
 	templateConfig bool
 	// pseudonyms are the batch's, one per pseudonym key.
@@ -51,7 +53,7 @@ func newReportCmd(e env) *cobra.Command { return reportCommand(e, nil) }
 func reportCommand(e env, extra map[string][]byte) *cobra.Command {
 	f := reportFlags{extra: extra}
 	c := &cobra.Command{
-		Use:   "report [flags] LINELIST.csv",
+		Use:   "report [flags] LINELIST...",
 		Short: "Write the self-contained HTML report (one per jurisdiction with --by)",
 		Long: `report runs the whole analysis and renders a self-contained HTML report from a template
 folder (Markdown with template actions; the built-in default unless --template is given).
@@ -59,9 +61,9 @@ The HTML carries its style sheet and chart library inline and makes no network r
 With --by COLUMN, -o names a directory that receives one <slug>.html and <slug>.json per
 value of the column, and an index.html linking them. Case identifiers are pseudonymised
 unless --show-ids is given; small counts in stratified tables are suppressed.`,
-		Args: exactArgs(1, "one line-list file"),
+		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
-			return f.run(c, e, args[0])
+			return f.run(c, e, args)
 		},
 	}
 	f.estimateFlags.register(c)
@@ -87,7 +89,7 @@ type page struct {
 	internal     *analysis.Summary
 }
 
-func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
+func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
 	byCol, ok := stratumColumn(f.by)
 	if f.by != "" && !ok {
 		return usageErrorf("--by must be one of %s, got %q", strings.Join(linelist.StratumColumns(), ", "), f.by)
@@ -103,11 +105,16 @@ func (f *reportFlags) run(c *cobra.Command, e env, path string) error {
 			f.config, f.templateConfig = filepath.Join(f.template, render.ConfigFile), true
 		}
 	}
-	f.inputPaths = append(f.inputPaths, path)
-	ld, err := f.load(path)
+	for _, p := range paths {
+		if p != linelist.StdinPath {
+			f.inputPaths = append(f.inputPaths, p)
+		}
+	}
+	ld, err := f.load(e, paths)
 	if err != nil {
 		return err
 	}
+	f.categories = analysis.SettingLabels(ld.list.Cases)
 	var pages []page
 	if f.by == "" {
 		p, err := f.one(c, e, ld, tmplRoot, nil)
@@ -191,7 +198,7 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	if err != nil {
 		return page{}, withCode(exitInput, err)
 	}
-	html, err := render.Render(rel, render.Options{Templates: fsys, Config: &rc})
+	html, err := render.Render(rel, render.Options{Templates: fsys, Config: &rc, Categories: f.categories})
 	if err != nil {
 		var te *render.TemplateError
 		var fe *linelist.FileError

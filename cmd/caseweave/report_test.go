@@ -344,3 +344,68 @@ func TestBatchChainCountsAgree(t *testing.T) {
 		t.Error("no chain appears, under one label, in two reports of the demo")
 	}
 }
+
+// One setting has one colour in every report of a batch, two settings never share one, and
+// the epidemic curve draws (and so lists in its legend) only the settings that have a bar.
+func TestBatchColoursAgree(t *testing.T) {
+	dir := t.TempDir()
+	if code, _, stderr := cli(t, "demo", "-o", dir); code != 0 {
+		t.Fatal(stderr)
+	}
+	pages, _ := filepath.Glob(filepath.Join(dir, "*.html"))
+	colourOf := map[string]string{}
+	nameOf := map[string]string{}
+	curves := 0
+	for _, p := range pages {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, m := range chartOption.FindAllStringSubmatch(string(b), -1) {
+			if m[1] != "cw_epicurve" {
+				continue
+			}
+			curves++
+			var opt struct {
+				Series []struct {
+					Name      string `json:"name"`
+					ItemStyle struct {
+						Color string `json:"color"`
+					} `json:"itemStyle"`
+					Data []struct {
+						Value any `json:"value"`
+					} `json:"data"`
+				} `json:"series"`
+			}
+			if err := json.Unmarshal([]byte(m[2]), &opt); err != nil {
+				t.Fatalf("%s: %v", p, err)
+			}
+			for _, s := range opt.Series {
+				bar := false
+				for _, d := range s.Data {
+					if v, ok := d.Value.(float64); ok && v > 0 {
+						bar = true
+					}
+				}
+				if !bar {
+					t.Errorf("%s: series %q has no bar but is drawn (and listed in the legend)", filepath.Base(p), s.Name)
+				}
+				c := s.ItemStyle.Color
+				if c == "" {
+					t.Errorf("%s: series %q has no colour of its own", filepath.Base(p), s.Name)
+					continue
+				}
+				if prev, ok := colourOf[s.Name]; ok && prev != c {
+					t.Errorf("%s: %q is %s here and %s in another report", filepath.Base(p), s.Name, c, prev)
+				}
+				if other, ok := nameOf[c]; ok && other != s.Name {
+					t.Errorf("%s: %q and %q share the colour %s", filepath.Base(p), s.Name, other, c)
+				}
+				colourOf[s.Name], nameOf[c] = c, s.Name
+			}
+		}
+	}
+	if curves != 3 || len(colourOf) < 3 {
+		t.Fatalf("read %d epidemic curves with %d settings; the demo has 3 reports and more settings", curves, len(colourOf))
+	}
+}

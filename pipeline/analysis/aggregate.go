@@ -15,6 +15,21 @@ import (
 // unknownLabel stands for a blank stratum value in tables and charts.
 const unknownLabel = "(not recorded)"
 
+// SettingLabels lists the settings of cases as the epidemic curve names its series (label),
+// sorted: the order in which a batch of reports gives settings their colours.
+func SettingLabels(cases []linelist.Case) []string {
+	seen := map[string]bool{}
+	for i := range cases {
+		seen[label(cases[i].Setting)] = true
+	}
+	out := make([]string, 0, len(seen))
+	for v := range seen {
+		out = append(out, v)
+	}
+	sort.Strings(out)
+	return out
+}
+
 func label(s string) string {
 	if s == "" {
 		return unknownLabel

@@ -44,7 +44,7 @@ func outbreak(t *testing.T, R, k float64, index int, seed uint64, untilDate stri
 
 func analyse(t *testing.T, cases []linelist.Case, o Options) *Summary {
 	t.Helper()
-	ll := &linelist.LineList{Cases: cases, Rows: len(cases), SHA256: "test"}
+	ll := &linelist.LineList{Cases: cases, Rows: len(cases), Sources: []linelist.Source{{Path: "test.csv", SHA256: "test", Rows: len(cases), Used: len(cases)}}}
 	s, err := Run("test.csv", ll, forest.Build(cases), o)
 	if err != nil {
 		t.Fatal(err)
@@ -154,5 +154,42 @@ func TestBinsCountWhatTheyLeaveOut(t *testing.T) {
 	if b.Infinite != 2 || binned+b.Overflow != 201 || b.Overflow < 1 {
 		t.Fatalf("binned %d, overflow %d, infinite %d: want 201 finite values binned or over, 2 infinite",
 			binned, b.Overflow, b.Infinite)
+	}
+}
+
+// Bootstrap values of R = (whole number)/n lie on a lattice of step 1/n: each bin must span
+// the same whole number of lattice steps, with its edges halfway between lattice points, or
+// the histogram shows a comb (common practice for histograms of discrete values).
+func TestBinsFollowTheLattice(t *testing.T) {
+	const n = 151
+	rng := rand.New(rand.NewPCG(1, 2))
+	var reps []offspring.Params
+	for range 1000 {
+		m := 0
+		for range n {
+			m += rng.IntN(3) // offspring 0, 1 or 2
+		}
+		reps = append(reps, offspring.Params{float64(m) / n, 0.5})
+	}
+	b := bins(reps, offspring.StatR)
+	step := 1.0 / n
+	w := b.Edges[1] - b.Edges[0]
+	if per := w / step; math.Abs(per-math.Round(per)) > 1e-6 || per < 1 {
+		t.Fatalf("bin width %v is %v lattice steps, not a whole number", w, per)
+	}
+	for _, e := range b.Edges {
+		if off := e/step - math.Floor(e/step); math.Abs(off-0.5) > 1e-6 {
+			t.Fatalf("edge %v lies %v of a step past a lattice point, not halfway", e, off)
+		}
+	}
+	if len(b.Counts) > 30 {
+		t.Errorf("%d bins", len(b.Counts))
+	}
+	total := b.Overflow
+	for _, c := range b.Counts {
+		total += c
+	}
+	if total != 1000 {
+		t.Errorf("%d of 1000 values counted", total)
 	}
 }

@@ -57,6 +57,15 @@ func ReadR(r Estimate, bounds [2]*float64, n int) Verdict {
 	return Verdict{VerdictUncertain, fmt.Sprintf("the interval, %s to %s, includes 1", fmtR(*bounds[0]), fmtR(*bounds[1]))}
 }
 
+// smallSample is the warning printed beside estimates that rest on n cases, empty when n
+// reaches MinCasesForVerdict.
+func smallSample(n int) string {
+	if n >= MinCasesForVerdict {
+		return ""
+	}
+	return fmt.Sprintf("These estimates rest on %d cases, fewer than the %d an interval needs to be read: at such numbers the intervals are too narrow as often as not, and an interval of zero width only means that every resample of so few cases gave the same value.", n, MinCasesForVerdict)
+}
+
 func fmtR(x float64) string { return fmt.Sprintf("%.2f", x) }
 
 // Assessment is the summary's reading of where transmission stands.

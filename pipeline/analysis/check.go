@@ -24,9 +24,24 @@ func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf lin
 		Tool: Tool{Name: ToolName, Version: Version},
 		AsOf: asOf,
 		Input: Input{
-			Path: path, SHA256: ll.SHA256, Rows: ll.Rows,
+			Path: path, Rows: ll.Rows,
 			Used: len(ll.Cases), Rejected: ll.Rejected,
+			Files: make([]InputFile, len(ll.Sources)),
 		},
+	}
+	for i, src := range ll.Sources {
+		f := InputFile{Path: src.Name(), SHA256: src.SHA256, Format: src.Format, Gzip: src.Gzip, Sheet: src.Sheet,
+			SheetReason: src.SheetReason, HeaderRow: src.HeaderRow, Note: src.Note, Rows: count(src.Rows), Used: count(src.Used), Rejected: count(src.Rows - src.Used)}
+		if src.Format == linelist.FormatWorkbook {
+			f.DateSystem = "1900"
+			if src.Date1904 {
+				f.DateSystem = "1904"
+			}
+		}
+		s.Input.Files[i] = f
+	}
+	if len(ll.Sources) == 1 {
+		s.Input.SHA256 = ll.Sources[0].SHA256
 	}
 	all := make([]linelist.Problem, 0, len(ll.Problems)+len(f.Problems))
 	all = append(all, ll.Problems...)
@@ -34,9 +49,13 @@ func CheckSummary(path string, ll *linelist.LineList, f *forest.Forest, asOf lin
 	linelist.SortProblems(all)
 	s.Problems = make([]Problem, len(all))
 	for i, p := range all {
-		s.Problems[i] = Problem{Row: p.Row, Column: p.Column, Code: p.Code, Severity: p.Severity, Message: p.Message}
+		q := Problem{Row: p.Row, Column: p.Column, Code: p.Code, Severity: p.Severity, Message: p.Message}
+		if p.Source >= 0 && p.Source < len(ll.Sources) {
+			q.File, q.Place = ll.Sources[p.Source].Name(), ll.Sources[p.Source].At(p.Row, p.Column)
+		}
+		s.Problems[i] = q
 	}
-	s.ProblemCounts = countProblems(s.Problems)
+	s.ProblemCounts = countProblems(s.Problems, len(ll.Sources) > 1)
 	s.Tree = TreeStats(ll.Cases, f)
 	return s
 }
@@ -55,12 +74,14 @@ func TreeStats(cases []linelist.Case, f *forest.Forest) Tree {
 	return t
 }
 
-func countProblems(ps []Problem) []ProblemCount {
+// countProblems tallies problems by code; with several files each first place names its
+// file's base name.
+func countProblems(ps []Problem, files bool) []ProblemCount {
 	byCode := map[linelist.Code]*ProblemCount{}
 	for _, p := range ps {
 		pc := byCode[p.Code]
 		if pc == nil {
-			pc = &ProblemCount{Code: p.Code, Severity: p.Severity, FirstRows: []int{}}
+			pc = &ProblemCount{Code: p.Code, Severity: p.Severity, FirstRows: []int{}, FirstPlaces: []string{}}
 			byCode[p.Code] = pc
 		}
 		pc.Count++
@@ -69,6 +90,11 @@ func countProblems(ps []Problem) []ProblemCount {
 		}
 		if len(pc.FirstRows) < firstRowsShown && p.Row > 0 {
 			pc.FirstRows = append(pc.FirstRows, p.Row)
+			place := p.Place
+			if files {
+				place = baseName(p.File) + " " + place
+			}
+			pc.FirstPlaces = append(pc.FirstPlaces, place)
 		}
 	}
 	out := make([]ProblemCount, 0, len(byCode))

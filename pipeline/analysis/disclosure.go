@@ -98,6 +98,20 @@ func countTables(s *Summary) *countTableSet {
 		}
 		t.lines = append(t.lines, rows...)
 	}
+	if fs := s.Input.Files; len(fs) > 1 {
+		rows := countLine{what: "rows read by input file", total: t.fixed(s.Input.Rows, "rows read")}
+		used := countLine{what: "rows used by input file", total: t.fixed(s.Input.Used, "rows used")}
+		rejected := countLine{what: "rows rejected by input file", total: t.fixed(s.Input.Rejected, "rows rejected")}
+		for i := range fs {
+			f := &fs[i]
+			r := t.add(&f.Rows, "rows read from "+f.Path)
+			u := t.add(&f.Used, "rows used from "+f.Path)
+			j := t.add(&f.Rejected, "rows rejected from "+f.Path)
+			rows.cells, used.cells, rejected.cells = append(rows.cells, r), append(used.cells, u), append(rejected.cells, j)
+			t.lines = append(t.lines, countLine{what: "rows of " + f.Path, cells: []int{u, j}, total: r})
+		}
+		t.lines = append(t.lines, rows, used, rejected)
+	}
 	if am := s.AgeMixing; am != nil {
 		l := countLine{what: "links by age group", total: t.fixed(am.Links, "links")}
 		for r := range am.Counts {
@@ -140,6 +154,17 @@ func suppressTables(t *countTableSet, thr int) {
 			}
 		}
 	}
+}
+
+// held counts the withheld entries.
+func (t *countTableSet) held() int {
+	n := 0
+	for _, e := range t.entries {
+		if e.held {
+			n++
+		}
+	}
+	return n
 }
 
 // lineLeak says how a line gives a withheld count away, or "" when it does not.

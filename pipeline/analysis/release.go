@@ -10,6 +10,7 @@ import (
 	"path"
 	"path/filepath"
 	"strconv"
+	"strings"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
 )
@@ -68,6 +69,10 @@ type Released struct{ s *Summary }
 // Summary is the released view; callers must not change it.
 func (r *Released) Summary() *Summary { return r.s }
 
+// baseName is a path's last element, so that a released view does not show the analyst's
+// folders.
+func baseName(p string) string { return path.Base(filepath.ToSlash(p)) }
+
 // Release makes the view of s that stakeholders receive, under policy p. It works on a deep
 // copy; s is unchanged and stays the analyst's (see --internal-json). What changes:
 //
@@ -95,9 +100,18 @@ func Release(s *Summary, p Policy) (*Released, error) {
 		return nil, err
 	}
 	c.Settings.SuppressBelow = thr
-	c.Input.Path = path.Base(filepath.ToSlash(c.Input.Path))
+	c.Input.Path = baseName(c.Input.Path)
+	names := make([]string, len(c.Input.Files))
+	for i := range c.Input.Files {
+		c.Input.Files[i].Path = baseName(c.Input.Files[i].Path)
+		names[i] = c.Input.Files[i].Path
+	}
+	if len(names) > 1 {
+		c.Input.Path = strings.Join(names, ", ")
+	}
 	for i := range c.Problems {
 		c.Problems[i].Message = c.Problems[i].Code.Meaning()
+		c.Problems[i].File = baseName(c.Problems[i].File)
 	}
 	if p.Pseudonyms != nil {
 		pseudonymise(c, p.Pseudonyms)
@@ -106,6 +120,11 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	t := countTables(c)
 	suppressTables(t, thr)
 	t.withhold()
+	if held := t.held(); held > 0 {
+		c.Cautions = append(c.Cautions, Caution{Kind: CautionWithheldCounts, Text: fmt.Sprintf(
+			"%s in the tables by week, setting and age group are withheld: counts from 1 to %d, and the counts that would let one be worked out, are not shown, to protect the people behind small numbers.",
+			countOf(held, "count"), thr-1)})
+	}
 	for i := range c.Strata {
 		st := &c.Strata[i]
 		if st.Cases == nil || st.Counted == nil || *st.Counted < thr {

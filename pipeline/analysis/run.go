@@ -172,6 +172,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.ageMixing()
 	a.multitype()
 	a.strata()
+	a.cautions()
 	return s, nil
 }
 
@@ -394,6 +395,7 @@ func (a *run) offspring() {
 		N: t.N(), Censored: censored, CensorDays: a.w, Mean: t.Mean(), Variance: t.Variance(),
 		Histogram: t.Histogram(), Superspreaders: []string{},
 	}
+	o.SmallSample = smallSample(o.N)
 	if o.N < 2 {
 		a.note("Only %d case(s) lie outside the %d-day censoring window: too few to estimate the offspring distribution.", o.N, a.w)
 		return
@@ -627,6 +629,7 @@ func (a *run) outlook() {
 	ol.MajorOutbreakProbability = a.interval(func(p offspring.Params) float64 { return 1 - q(p) }, 1-q(point))
 	ol.ShareCausing80pct = a.interval(share, share(point))
 	ol.SSEThreshold = offspring.SuperspreadingThreshold(point.R())
+	a.currentChains(ol)
 	for _, i := range a.selected {
 		if a.censored(i) {
 			ol.Active++
@@ -674,8 +677,34 @@ func (a *run) endOfOutbreak() {
 		return
 	}
 	e := &EndOfOutbreak{LastOnset: last}
+	if gap := int(a.o.AsOf - last); gap < a.w {
+		ago := fmt.Sprintf("%d days before the analysis date", gap)
+		switch gap {
+		case 0:
+			ago = "on the analysis date"
+		case 1:
+			ago = "the day before the analysis date"
+		}
+		e.NotYet = fmt.Sprintf("the last case had onset %s, inside the %d-day window in which the people it infected may not yet be reported", ago, a.w)
+	}
+	lower, upper := a.endOfOutbreakBand(onsets, len(res.Days))
 	for k, day := range res.Days {
-		e.Curve = append(e.Curve, DayProbability{Date: linelist.Day(day), Probability: res.Probability[k]})
+		p := DayProbability{Date: linelist.Day(day), Probability: res.Probability[k]}
+		if lower != nil {
+			p.Lower, p.Upper = numeric.FinitePtr(lower[k]), numeric.FinitePtr(upper[k])
+		}
+		e.Curve = append(e.Curve, p)
+	}
+	if lower != nil {
+		for k, day := range res.Days {
+			d := linelist.Day(day)
+			if e.P95Range[0] == nil && upper[k] >= 0.95 {
+				e.P95Range[0] = &d
+			}
+			if e.P95Range[1] == nil && lower[k] >= 0.95 {
+				e.P95Range[1] = &d
+			}
+		}
 	}
 	if res.Day95 != nil {
 		d := linelist.Day(*res.Day95)
@@ -691,10 +720,47 @@ func (a *run) endOfOutbreak() {
 	a.s.EndOfOutbreak = e
 }
 
-// bins makes a 30-bin histogram of a statistic over the replicates, on equal-width bins
-// from the smallest value to the 99th percentile; larger values (k can run to thousands
-// in replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
-// itself) in Infinite; NaN (failed fits, counted elsewhere) is left out.
+// endOfOutbreakBand is the central interval at the run's level of the end-of-outbreak curve
+// over the bootstrap replicates (at most projectionReplicates of them), day by day: the
+// type-7 quantiles of the replicate curves (a percentile band; common practice). Nil when
+// fewer than two replicate curves could be computed.
+func (a *run) endOfOutbreakBand(onsets []int, days int) (lower, upper []float64) {
+	var curves [][]float64
+	for b := 0; b < len(a.boot.Replicates) && b < projectionReplicates; b++ {
+		p := a.boot.Replicates[b]
+		if slices.ContainsFunc(p, math.IsNaN) {
+			continue
+		}
+		res, err := branching.EndOfOutbreak(onsets, a.family.Distribution(p), a.serial.CDF, int(a.o.AsOf), eooHorizon)
+		if err != nil || len(res.Probability) != days {
+			continue
+		}
+		curves = append(curves, res.Probability)
+	}
+	if len(curves) < 2 {
+		return nil, nil
+	}
+	alpha := (1 - a.o.Level) / 2
+	lower, upper = make([]float64, days), make([]float64, days)
+	col := make([]float64, len(curves))
+	for k := range days {
+		for b, c := range curves {
+			col[b] = c[k]
+		}
+		sort.Float64s(col)
+		lower[k], upper[k] = numeric.Quantile7(col, alpha), numeric.Quantile7(col, 1-alpha)
+	}
+	return lower, upper
+}
+
+// bins makes a histogram of a statistic over the replicates, of at most 30 bins from the
+// smallest value to the 99th percentile; larger values (k can run to thousands in
+// replicates near the Poisson limit) are counted in Overflow and +∞ (the Poisson limit
+// itself) in Infinite; NaN (failed fits, counted elsewhere) is left out. When the values lie
+// on a lattice (R from a case bootstrap is a whole number of offspring over n cases) the bin
+// width is a whole number of lattice steps and the edges fall halfway between lattice
+// points, so every bin holds the same number of attainable values and no comb appears
+// (equal-width bins that ignore the lattice alternate between holding k and k + 1 of them).
 func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	var xs []float64
 	infinite := 0
@@ -711,23 +777,55 @@ func bins(reps []offspring.Params, stat func(offspring.Params) float64) *Bins {
 	}
 	sort.Float64s(xs)
 	lo, hi := xs[0], xs[int(0.99*float64(len(xs)-1))]
-	const n = 30
-	if hi <= lo {
-		hi = lo + 1e-9
+	const maxBins = 30
+	n := maxBins
+	var start, width float64
+	if step := latticeStep(xs); step > 0 {
+		per := math.Max(1, math.Ceil((hi-lo)/step/maxBins))
+		width = per * step
+		start = lo - step/2
+		n = max(1, int(math.Ceil((hi-start)/width)))
+	} else {
+		if hi <= lo {
+			hi = lo + 1e-9
+		}
+		start, width = lo, (hi-lo)/maxBins
 	}
-	width := (hi - lo) / n
+	end := start + float64(n)*width
 	b := &Bins{Edges: make([]float64, n+1), Counts: make([]int, n), Infinite: infinite}
 	for i := range b.Edges {
-		b.Edges[i] = lo + float64(i)*width
+		b.Edges[i] = start + float64(i)*width
 	}
 	for _, v := range xs {
-		if v > hi {
+		if v > hi || v > end {
 			b.Overflow++
 			continue
 		}
-		b.Counts[min(int((v-lo)/width), n-1)]++
+		b.Counts[min(max(int((v-start)/width), 0), n-1)]++
 	}
 	return b
+}
+
+// latticeStep is δ when the distinct values of sorted xs are all whole multiples of δ apart,
+// δ their smallest gap (to 1e-6 of a step, well above rounding and well below a step); 0
+// when they are not, or when there are fewer than two.
+func latticeStep(xs []float64) float64 {
+	step := math.Inf(1)
+	for i := 1; i < len(xs); i++ {
+		if g := xs[i] - xs[i-1]; g > 1e-12*math.Max(1, math.Abs(xs[i])) && g < step {
+			step = g
+		}
+	}
+	if math.IsInf(step, 1) {
+		return 0
+	}
+	for i := 1; i < len(xs); i++ {
+		g := (xs[i] - xs[0]) / step
+		if math.Abs(g-math.Round(g)) > 1e-6 {
+			return 0
+		}
+	}
+	return step
 }
 
 // weekly computes mean offspring by ISO onset week, all selected cases included and the

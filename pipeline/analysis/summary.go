@@ -36,6 +36,10 @@ type Summary struct {
 	AgeMixing *AgeMixing `json:"age_mixing,omitempty"`
 	Strata    []Stratum  `json:"strata,omitempty"`
 
+	// Cautions are sentences computed from this run's numbers on what its estimates cannot
+	// tell (see Caution); the report shows them beside its general caution.
+	Cautions []Caution `json:"cautions,omitempty"`
+
 	// Notes are plain-language remarks the run made about itself (a model that could not be
 	// fitted, a section left out for lack of data); the report shows them.
 	Notes []string `json:"notes,omitempty"`
@@ -66,31 +70,59 @@ type RunSettings struct {
 	Pseudonymised    bool    `json:"pseudonymised"`  // identifiers replaced (a released view)
 }
 
-// Input describes the file read. Rows = Used + Rejected always.
+// Input describes what was read: Path and SHA256 are those of the file when one was read
+// ("" for SHA256 when several were), and Files lists every file. Rows = Used + Rejected
+// always, in total and for each file.
 type Input struct {
-	Path     string `json:"path"`
-	SHA256   string `json:"sha256"`
-	Rows     int    `json:"rows"`
-	Used     int    `json:"used"`
-	Rejected int    `json:"rejected"`
+	Path     string      `json:"path"`
+	SHA256   string      `json:"sha256"`
+	Rows     int         `json:"rows"`
+	Used     int         `json:"used"`
+	Rejected int         `json:"rejected"`
+	Files    []InputFile `json:"files"`
 }
 
-// Problem is one thing wrong with the input: Row is the physical line of the file (header =
-// line 1; 0 for the file as a whole), Column the canonical column concerned ("" for the row).
+// InputFile is one file read: its format ("csv" or "xlsx", Gzip when it was compressed),
+// the workbook sheet chosen and why, the header's line or spreadsheet row, and its rows.
+// With several files (often one per region) the row counts are a count by place, so a
+// released view withholds small ones (null); Rows = Used + Rejected where all are shown.
+type InputFile struct {
+	Path        string `json:"path"`
+	SHA256      string `json:"sha256"`
+	Format      string `json:"format"`
+	Gzip        bool   `json:"gzip"`
+	Sheet       string `json:"sheet,omitempty"`
+	SheetReason string `json:"sheet_reason,omitempty"`
+	DateSystem  string `json:"date_system,omitempty"` // "1900" or "1904", workbooks only
+	HeaderRow   int    `json:"header_row"`
+	Note        string `json:"note,omitempty"` // where the name and the content disagree
+	Rows        *int   `json:"rows"`
+	Used        *int   `json:"used"`
+	Rejected    *int   `json:"rejected"`
+}
+
+// Problem is one thing wrong with the input: File is the file it is in, Row the physical
+// line of a CSV file (header = line 1) or the spreadsheet row of a workbook (0 for the file
+// as a whole), Place the same in the analyst's words ("line 12", "Cases!C12"), Column the
+// canonical column concerned ("" for the row).
 type Problem struct {
+	File     string            `json:"file"`
 	Row      int               `json:"row"`
+	Place    string            `json:"place"`
 	Column   string            `json:"column"`
 	Code     linelist.Code     `json:"code"`
 	Severity linelist.Severity `json:"severity"`
 	Message  string            `json:"message"`
 }
 
-// ProblemCount is the tally of one problem code, with the first few line numbers.
+// ProblemCount is the tally of one problem code, with the first few line numbers and their
+// places (preceded by the file's base name when several files were read).
 type ProblemCount struct {
-	Code      linelist.Code     `json:"code"`
-	Severity  linelist.Severity `json:"severity"`
-	Count     int               `json:"count"`
-	FirstRows []int             `json:"first_rows"`
+	Code        linelist.Code     `json:"code"`
+	Severity    linelist.Severity `json:"severity"`
+	Count       int               `json:"count"`
+	FirstRows   []int             `json:"first_rows"`
+	FirstPlaces []string          `json:"first_places"`
 }
 
 // Tree holds the transmission forest's statistics. Linked counts cases with a kept infector
@@ -133,6 +165,10 @@ type Offspring struct {
 	K         Estimate   `json:"k"`
 	// PoissonLimit is true when the sample variance does not exceed the mean: no finite k.
 	PoissonLimit bool `json:"poisson_limit"`
+
+	// SmallSample is a warning sentence when the estimates rest on fewer than
+	// MinCasesForVerdict cases, empty otherwise.
+	SmallSample string `json:"small_sample,omitempty"`
 
 	Bootstrap    BootstrapInfo `json:"bootstrap"`
 	ChainSizeFit *ChainSizeFit `json:"chain_size_fit"`
@@ -230,16 +266,33 @@ type CurvePoint struct {
 
 // Outlook is the branching-process outlook from the fitted model [Harris 1963; Blumberg & Lloyd-Smith 2013].
 type Outlook struct {
-	Model                    string       `json:"model"`
-	ExtinctionProbability    Estimate     `json:"extinction_probability"`
-	MajorOutbreakProbability Estimate     `json:"major_outbreak_probability"`
-	ShareCausing80pct        Estimate     `json:"share_causing_80pct"`
-	SSEThreshold             int          `json:"sse_threshold"`
-	Active                   int          `json:"active"`
-	Projection               []Projection `json:"projection"`
+	Model                    string   `json:"model"`
+	ExtinctionProbability    Estimate `json:"extinction_probability"`
+	MajorOutbreakProbability Estimate `json:"major_outbreak_probability"`
+	ShareCausing80pct        Estimate `json:"share_causing_80pct"`
+	SSEThreshold             int      `json:"sse_threshold"`
+	Active                   int      `json:"active"`
+	// CurrentChains is what the model says of the chains now under way; nil, with
+	// CurrentChainsNote saying why, when it cannot be computed.
+	CurrentChains     *CurrentChains `json:"current_chains"`
+	CurrentChainsNote string         `json:"current_chains_note,omitempty"`
+	Projection        []Projection   `json:"projection"`
 	// ChainSize is the model's chain-size distribution P(Y = y), y = 1.., against which the
 	// observed cluster sizes are drawn.
 	ChainSize []float64 `json:"chain_size,omitempty"`
+}
+
+// CurrentChains reads the chains now under way: every case of the report with its individual
+// reproduction number conditioned on the people it has infected so far in the share of its
+// serial interval that has passed (branching.CurrentChains), with bootstrap intervals.
+type CurrentChains struct {
+	// DieOut is the probability that all of them die out on their own.
+	DieOut Estimate `json:"die_out"`
+	// Pending is the expected number of people the listed cases have still to infect.
+	Pending Estimate `json:"pending"`
+	// Further is the expected number of cases still to come over all generations; its
+	// estimate or upper bound is null where R ≥ 1, which has no finite expectation.
+	Further Estimate `json:"further"`
 }
 
 // Projection is the predictive distribution of one future generation's case count, mixed
@@ -310,17 +363,28 @@ type InferredLinks struct {
 // EndOfOutbreak is the probability that no further case follows, day by day
 // [Nishiura, Miyamatsu & Mizumoto 2016].
 type EndOfOutbreak struct {
-	Curve       []DayProbability `json:"curve"`
-	P95Date     *linelist.Day    `json:"p95_date"`
-	P99Date     *linelist.Day    `json:"p99_date"`
-	LastOnset   linelist.Day     `json:"last_onset"`
-	RuleOfThumb *RuleOfThumb     `json:"rule_of_thumb,omitempty"`
+	Curve   []DayProbability `json:"curve"`
+	P95Date *linelist.Day    `json:"p95_date"`
+	P99Date *linelist.Day    `json:"p99_date"`
+	// P95Range is the interval of the day the chance reaches 95%, from the band of the
+	// bootstrap replicates (its earliest day where the upper end reaches 95%, its latest
+	// where the lower end does); an end is null when it lies beyond the curve.
+	P95Range  [2]*linelist.Day `json:"p95_range"`
+	LastOnset linelist.Day     `json:"last_onset"`
+	// NotYet is the reason the curve cannot be read yet, empty when it can: while cases are
+	// still being reported within the censoring window, the chance that none follows is
+	// about a future the data have not reached.
+	NotYet      string       `json:"not_yet,omitempty"`
+	RuleOfThumb *RuleOfThumb `json:"rule_of_thumb,omitempty"`
 }
 
-// DayProbability is one point of the end-of-outbreak curve.
+// DayProbability is one point of the end-of-outbreak curve, with the central interval of
+// the bootstrap replicates at the run's level (Lower, Upper; null where none was computed).
 type DayProbability struct {
 	Date        linelist.Day `json:"date"`
 	Probability float64      `json:"probability"`
+	Lower       *float64     `json:"lower"`
+	Upper       *float64     `json:"upper"`
 }
 
 // RuleOfThumb is the declaration rule "twice the longest incubation period after the last

@@ -172,7 +172,7 @@ func BuildIndexed(cases []linelist.Case, byID []int32) *Forest {
 
 func (f *Forest) problem(c *linelist.Case, code linelist.Code, sev linelist.Severity, msg string) {
 	f.Problems = append(f.Problems, linelist.Problem{
-		Row: c.Row, Column: linelist.ColInfectorID, Code: code, Severity: sev, Message: msg,
+		Source: int(c.Source), Row: c.Row, Column: linelist.ColInfectorID, Code: code, Severity: sev, Message: msg,
 	})
 }
 

@@ -13,9 +13,10 @@ type Case struct {
 	Onset      Day    // onset_date
 	Report     Day    // report_date; meaningful only when HasReport
 	HasReport  bool
-	Imported   bool // imported yes/no; blank reads as no
-	Row        int  // 1-based physical line of the row in the file (header = line 1)
-	*Strata         // never nil in a Case from Read; see NoStrata
+	Imported   bool   // imported yes/no; blank reads as no
+	Source     uint16 // index in LineList.Sources of the file the row came from
+	Row        int    // 1-based physical line (CSV, header = line 1) or spreadsheet row (workbook)
+	*Strata           // never nil in a Case from Read; see NoStrata
 }
 
 // Strata are a case's descriptive columns; "" is not recorded.

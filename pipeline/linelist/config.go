@@ -19,6 +19,9 @@ type InputConfig struct {
 	Delimiter string
 	// Encoding is "auto" (or ""), "utf-8", "latin-1" or "windows-1252".
 	Encoding string
+	// Sheet is the workbook sheet to read, by name or 1-based position; "" chooses as
+	// Options.Sheet says, which overrides it.
+	Sheet string
 }
 
 // ParseInput reads the input section of a jurisdiction config (the mapping under input:)
@@ -31,6 +34,7 @@ type InputConfig struct {
 //	  date_format: dmy         # iso (default) | dmy | mdy
 //	  delimiter: ";"           # auto (default) | "," | ";" | tab
 //	  encoding: windows-1252   # auto (default) | utf-8 | latin-1 | windows-1252
+//	  sheet: Cases             # workbooks: the sheet's name or position (default: chosen)
 //
 // Every failure is a *FileError with Code FileBadConfig and the line of the key or value to
 // fix; the caller sets Path.
@@ -41,7 +45,7 @@ func parseInput(n *yaml.Node, in *InputConfig) error {
 		return nil
 	}
 	if n.Kind != yaml.MappingNode {
-		return configErr(n.Line, "input must be a mapping (columns:, date_format:, delimiter:, encoding:), not a %s", kindName(n))
+		return configErr(n.Line, "input must be a mapping (columns:, date_format:, delimiter:, encoding:, sheet:), not a %s", kindName(n))
 	}
 	seen := map[string]int{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
@@ -86,8 +90,17 @@ func parseInput(n *yaml.Node, in *InputConfig) error {
 				return configErr(v.Line, "input.encoding %q is not one of auto, utf-8, latin-1, windows-1252", clip(s))
 			}
 			in.Encoding = e
+		case "sheet":
+			s, err := scalar(v, "input.sheet")
+			if err != nil {
+				return err
+			}
+			if strings.TrimSpace(s) == "" {
+				return configErr(v.Line, "input.sheet is blank; give the workbook sheet's name or position, or remove the line")
+			}
+			in.Sheet = s
 		default:
-			return configErr(k.Line, "unknown key input.%s; known keys are columns, date_format, delimiter, encoding", clip(k.Value))
+			return configErr(k.Line, "unknown key input.%s; known keys are columns, date_format, delimiter, encoding, sheet", clip(k.Value))
 		}
 	}
 	return nil

@@ -33,12 +33,13 @@ input:
   date_format: DMY
   delimiter: tab
   encoding: cp1252
+  sheet: Cases
 `
 	in, err := parseInputYAML(good)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if in.Columns[ColCaseID] != "Case Number" || in.Columns[ColOnsetDate] != "Date of Onset" || in.DateFormat != DateDMY || in.Delimiter != "tab" || in.Encoding != "windows-1252" {
+	if in.Columns[ColCaseID] != "Case Number" || in.Columns[ColOnsetDate] != "Date of Onset" || in.DateFormat != DateDMY || in.Delimiter != "tab" || in.Encoding != "windows-1252" || in.Sheet != "Cases" {
 		t.Errorf("input = %+v", in)
 	}
 	if in, err := parseInputYAML("input:\n"); err != nil || in.Columns != nil {
@@ -58,6 +59,7 @@ input:
 		{"bad delimiter", "input:\n  delimiter: '|'\n", 2, []string{`"|"`, "tab"}},
 		{"bad encoding", "input:\n  encoding: utf-16\n", 2, []string{`"utf-16"`, "latin-1"}},
 		{"duplicate key", "input:\n  delimiter: ','\n  delimiter: ';'\n", 3, []string{"twice"}},
+		{"blank sheet", "input:\n  sheet: ' '\n", 2, []string{"input.sheet is blank"}},
 		{"columns a list", "input:\n  columns: [a, b]\n", 2, []string{"input.columns must map"}},
 		{"date format a list", "input:\n  date_format: [dmy]\n", 2, []string{"single value"}},
 		{"input a list", "input: [a]\n", 1, []string{"input must be a mapping"}},
@@ -82,7 +84,7 @@ func TestConfigMappingOverridesVariants(t *testing.T) {
 	// configured header is matched ignoring case.
 	in := InputConfig{Columns: map[string]string{ColCaseID: "lab ref", ColOnsetDate: "Sick Since"}}
 	ll := mustRead(t, "ID,Lab Ref,SICK SINCE\n1,L-9,2026-02-01\n", Options{Input: in})
-	if len(ll.Cases) != 1 || ll.Cases[0].ID != "L-9" || ll.Mapping[ColCaseID] != "Lab Ref" {
-		t.Errorf("cases %+v mapping %v", ll.Cases, ll.Mapping)
+	if len(ll.Cases) != 1 || ll.Cases[0].ID != "L-9" || ll.Sources[0].Mapping[ColCaseID] != "Lab Ref" {
+		t.Errorf("cases %+v mapping %v", ll.Cases, ll.Sources[0].Mapping)
 	}
 }

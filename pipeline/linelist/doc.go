@@ -1,7 +1,37 @@
-// Package linelist reads an outbreak line list export (CSV) into cases and a ledger of
-// problems, the first stage of caseweave's pipeline. No row vanishes silently: every data
-// row becomes a Case or is counted as rejected with at least one error Problem on its line,
-// so LineList.Rows == len(Cases) + Rejected.
+// Package linelist reads outbreak line list exports (CSV, .xlsx workbooks, either
+// gzip-compressed; one file or several) into cases and a ledger of problems, the first
+// stage of caseweave's pipeline. No row vanishes silently: every data row becomes a Case or
+// is counted as rejected with at least one error Problem on its line, so LineList.Rows ==
+// len(Cases) + Rejected.
+//
+// # Formats
+//
+// Each file's format is decided by its first bytes, not its name: a gzip stream is
+// decompressed as it is read and its content decided again; a zip archive is an .xlsx
+// workbook; a Compound File Binary (an encrypted workbook, or a legacy .xls) is a
+// FileError with Code FileEncrypted; anything else is delimited text (see Bytes). A Source
+// records what was read, with a Note where the name promised another format.
+//
+// A workbook is read with excelize, streaming the chosen sheet row by row: Options.Sheet (a
+// name, or a 1-based position), else the only sheet, else the first whose header holds the
+// required columns, visible sheets before hidden ones. The header is the first of the top
+// 100 rows whose cells map to the canonical columns, so title rows above it are passed
+// over. Cells are read as stored: a formula as its cached value (one without is a blank
+// cell, and a problem on it quotes the formula: explainFormulas), a number in a date column
+// (or text of digits alone: excelize streams cell values without their types) as a serial
+// date in the workbook's date system (1900 or 1904; serialDate), text in a date column by
+// ParseDate in the configured order. Rows with no filled cell are not data rows; a filled
+// cell right of the header's last column is a field_count problem. Rows are numbered as the
+// spreadsheet shows them, and LineList.Place gives "Cases!C12".
+//
+// Compressed content is bounded (gzipFloor and the constants beside it), so a compression
+// bomb is a FileError with Code FileTooLarge rather than an exhausted machine.
+//
+// # Several files
+//
+// ReadFiles validates the rows of every file together: a case_id present in two files is
+// a duplicate_id on the later row, its message naming the earlier place; Options.MaxRows
+// counts all rows. Case.Source and Problem.Source index LineList.Sources.
 //
 // # Columns
 //
@@ -13,7 +43,8 @@
 // input section of a jurisdiction config (InputConfig, read by ParseInput) maps any other
 // header. Columns outside the canonical set are skipped: their values are
 // never copied out of the CSV reader's buffer, so personal data in an export (names, phone
-// numbers) never reach a Case.
+// numbers) never reach a Case. (A workbook's rows come from excelize as strings, the shared
+// text table of the workbook whole; only canonical cells are kept from them.)
 //
 // # Bytes
 //
@@ -54,7 +85,7 @@
 //     in setting, age_group or jurisdiction the value dropped; the case is kept).
 //   - future_onset (warning): onset after Options.AsOf; the case is kept.
 //
-// Rows are numbered by the physical line on which the record starts (header = line 1), so
+// CSV rows are numbered by the physical line on which the record starts (header = line 1), so
 // a row after a quoted field spanning three lines gets the right number. A row that is
 // rejected may also carry warnings about its other cells, so all of them can be fixed at once.
 //

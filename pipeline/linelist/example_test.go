@@ -67,11 +67,32 @@ delimiter: ";"
 		fmt.Println(err)
 		return
 	}
-	fmt.Println(ll.Cases[0].ID, ll.Cases[0].Onset, ll.Mapping["onset_date"])
+	fmt.Println(ll.Cases[0].ID, ll.Cases[0].Onset, ll.Sources[0].Mapping["onset_date"])
 
 	_ = yaml.Unmarshal([]byte("columns:\n  onset_date: Date\n  report_date: Date\n"), &doc)
 	fmt.Println(linelist.ParseInput(doc.Content[0], &in))
 	// Output:
 	// X1 2026-04-25 Début
 	// line 3: bad_config: input.columns maps both onset_date and report_date to the column "Date"; each export column can feed only one canonical column
+}
+
+func ExampleReadFiles() {
+	dir := "../../testdata/linelist/workbook/"
+	ll, err := linelist.ReadFiles([]string{dir + "cases.csv", dir + "regions-1904.xlsx"}, linelist.Options{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, s := range ll.Sources {
+		fmt.Printf("%s: %s, sheet %q, header %d, %d rows, %d used\n", s.Path[len(dir):], s.Format, s.Sheet, s.HeaderRow, s.Rows, s.Used)
+	}
+	for _, p := range ll.Problems[:3] {
+		fmt.Println(ll.Place(p), p.Code)
+	}
+	// Output:
+	// cases.csv: csv, sheet "", header 1, 16 rows, 14 used
+	// regions-1904.xlsx: xlsx, sheet "Cases", header 3, 16 rows, 0 used
+	// ../../testdata/linelist/workbook/cases.csv line 7 bad_date
+	// ../../testdata/linelist/workbook/cases.csv line 15 bad_date
+	// ../../testdata/linelist/workbook/regions-1904.xlsx Cases!A4 duplicate_id
 }

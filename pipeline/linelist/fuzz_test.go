@@ -2,7 +2,9 @@ package linelist
 
 import (
 	"bytes"
+	"compress/gzip"
 	"errors"
+	"os"
 	"strings"
 	"testing"
 	"time"
@@ -15,6 +17,19 @@ func FuzzRead(f *testing.F) {
 	f.Add([]byte("case_id\tonset_date\tsetting\n\"a\nb\"\t2026-01-01\tcaf\xe9\n\t2026-01-01\tx\n"))
 	f.Add([]byte("case_id,onset_date\nab\"c,2026-01-01\n\"open,2026-01-02\nx,0000-00-00\n"))
 	f.Add([]byte("Case ID,Date of Onset,x\n1,2026-02-30,\x00\n2,20260101\n"))
+	// The other formats Read decides by content: gzip, a workbook, and their broken starts.
+	var gz bytes.Buffer
+	zw := gzip.NewWriter(&gz)
+	zw.Write([]byte("case_id,onset_date\nA,2026-01-01\n"))
+	zw.Close()
+	f.Add(gz.Bytes())
+	f.Add(gz.Bytes()[:12])
+	if xl, err := os.ReadFile("../../testdata/linelist/workbook/regions-1900.xlsx"); err == nil {
+		f.Add(xl)
+		f.Add(xl[:len(xl)/2])
+	}
+	f.Add([]byte("PK\x03\x04"))
+	f.Add([]byte("\xD0\xCF\x11\xE0\xA1\xB1\x1A\xE1"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		ll, err := Read(bytes.NewReader(data), Options{AsOf: 20500, MaxRows: 10000})
 		if err != nil {

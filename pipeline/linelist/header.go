@@ -119,7 +119,11 @@ func mapHeader(header []string, in InputConfig, delim rune) ([]int, map[string]s
 func headersSeen(header []string, delim rune) string {
 	const show = 20
 	var b strings.Builder
-	fmt.Fprintf(&b, "the file's header (read with delimiter %s) has %d column", delimName(delim), len(header))
+	if delim == 0 { // a workbook row
+		fmt.Fprintf(&b, "the header row has %d column", len(header))
+	} else {
+		fmt.Fprintf(&b, "the file's header (read with delimiter %s) has %d column", delimName(delim), len(header))
+	}
 	if len(header) != 1 {
 		b.WriteString("s")
 	}

@@ -33,8 +33,10 @@ const (
 
 // Problem is one thing wrong with the input, with its place in the file. Row is the 1-based
 // physical line on which the record starts, counting the header as line 1, as encoding/csv
-// counts lines; Row is 0 for a problem with the file as a whole.
+// counts lines; in a workbook it is the row number the spreadsheet shows. Row is 0 for a
+// problem with the file as a whole. LineList.Place says where it is in the analyst's words.
 type Problem struct {
+	Source   int // index in LineList.Sources of the file concerned (0 when one was read)
 	Row      int
 	Column   string
 	Code     Code
@@ -52,9 +54,12 @@ func (p Problem) String() string {
 	return fmt.Sprintf("line %d, column %s: %s %s: %s", p.Row, p.Column, p.Severity, p.Code, p.Message)
 }
 
-// SortProblems orders problems by row, then code, so that output is deterministic.
+// SortProblems orders problems by file, row, then code, so that output is deterministic.
 func SortProblems(ps []Problem) {
 	sort.SliceStable(ps, func(i, j int) bool {
+		if ps[i].Source != ps[j].Source {
+			return ps[i].Source < ps[j].Source
+		}
 		if ps[i].Row != ps[j].Row {
 			return ps[i].Row < ps[j].Row
 		}
@@ -71,7 +76,7 @@ func (c Code) Meaning() string {
 	case CodeMissingID:
 		return "the case identifier is blank; the row was not used"
 	case CodeDuplicateID:
-		return "the case identifier appeared on an earlier row; this row was not used"
+		return "the case identifier appeared on an earlier row or in an earlier file; this row was not used"
 	case CodeBadDate:
 		return "a date could not be read; an unreadable onset date means the row was not used"
 	case CodeBadValue:

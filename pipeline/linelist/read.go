@@ -4,13 +4,10 @@ import (
 	"bufio"
 	"bytes"
 	"cmp"
-	"crypto/sha256"
 	"encoding/csv"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"slices"
 	"strings"
 	"unicode/utf8"
@@ -27,23 +24,25 @@ type Options struct {
 	// MaxRows limits the number of data rows; 0 means no limit. A file with more rows is
 	// a FileError with Code FileTooManyRows, not a silently truncated line list.
 	MaxRows int
+	// Stdin is what the path StdinPath reads; nil means os.Stdin.
+	Stdin io.Reader
+	// Sheet chooses the worksheet of a workbook by name or by 1-based position, over
+	// Input.Sheet; when both are "" the only sheet, or the first whose header holds the
+	// required columns, is read.
+	Sheet string
 }
 
-// LineList is the result of reading one export: the cases that survived validation and the
-// ledger of problems found. Every data row read is either a Case or counted in Rejected,
-// so Rows == len(Cases) + Rejected, and every rejected row has at least one problem of
-// severity error on its line.
+// LineList is the result of reading one or more exports: the cases that survived
+// validation and the ledger of problems found. Every data row read is either a Case or
+// counted in Rejected, so Rows == len(Cases) + Rejected, and every rejected row has at least
+// one problem of severity error on its line.
 type LineList struct {
-	Cases     []Case            // accepted rows, in file order
-	Problems  []Problem         // sorted by row, then code (SortProblems)
-	Rows      int               // data rows read (records after the header; blank lines are not rows)
-	Rejected  int               // data rows not turned into a Case
-	SHA256    string            // hex SHA-256 of the raw file bytes; set by ReadFile, "" from Read
-	Header    []string          // the header fields as they appear in the file (BOM removed)
-	Mapping   map[string]string // canonical column -> header it was read from
-	Delimiter rune              // ',', ';' or '\t'
-	Encoding  string            // EncUTF8, EncUTF8BOM, EncLatin1 or EncWindows1252
-	CROnly    bool              // the file ends its lines with a carriage return alone
+	Cases    []Case    // accepted rows, in file order (the files in the order given)
+	Problems []Problem // sorted by file, row, then code (SortProblems)
+	Rows     int       // data rows read (records after the header; blank lines are not rows)
+	Rejected int       // data rows not turned into a Case
+	// Sources are the files read, in order; Case.Source and Problem.Source index them.
+	Sources []Source
 	// ByID lists the indices of Cases in order of their identifiers (byte order), for
 	// lookups by binary search: the duplicate check sorts the identifiers anyway, and a
 	// sorted index costs 4 bytes a case where a map would cost about 40.
@@ -65,6 +64,10 @@ const (
 	FileTooManyRows         FileCode = "too_many_rows"        // more data rows than Options.MaxRows
 	FileBadConfig           FileCode = "bad_config"           // the jurisdiction config cannot be used
 	FileReadError           FileCode = "read_error"           // the bytes could not be read
+	FileNotWorkbook         FileCode = "not_workbook"         // a zip that is not a readable .xlsx workbook
+	FileEncrypted           FileCode = "encrypted"            // a password-protected workbook (or a legacy .xls)
+	FileNoSheet             FileCode = "no_sheet"             // --sheet names no sheet, or no sheet has the required columns
+	FileTooLarge            FileCode = "too_large"            // uncompressed content beyond the reader's limits (a compression bomb)
 )
 
 // FileError is a problem that stops a file (a line list or a config) from being read at all,
@@ -99,34 +102,41 @@ const prefixSize = 64 << 10
 
 var utf8BOM = []byte{0xEF, 0xBB, 0xBF}
 
-// ReadFile reads the line list at path, computing the SHA-256 of its raw bytes in the
-// same pass. Fatal problems are a *FileError with Path set.
+// ReadFile reads the line list at path ("-" for standard input), computing the SHA-256 of
+// its raw bytes in the same pass. Fatal problems are a *FileError with Path set.
 func ReadFile(path string, opts Options) (*LineList, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, &FileError{Path: path, Code: FileReadError, Err: fmt.Errorf("cannot open the file: %v", err)}
+	return ReadFiles([]string{path}, opts)
+}
+
+// ReadFiles reads several exports as one line list: rows of every file are validated
+// together, so a case_id present in two files is a duplicate_id naming both places, and
+// Options.MaxRows limits the rows of all files together. Each file's format is decided by
+// its content (see the package documentation). Fatal problems are a *FileError with Path set.
+func ReadFiles(paths []string, opts Options) (*LineList, error) {
+	if len(paths) > maxSources {
+		return nil, &FileError{Code: FileReadError, Err: fmt.Errorf("%d files given; at most %d can be read in one run", len(paths), maxSources)}
 	}
-	defer f.Close()
-	size := int64(-1)
-	if st, err := f.Stat(); err == nil && st.Mode().IsRegular() {
-		size = st.Size()
-	}
-	h := sha256.New()
-	ll, err := read(io.TeeReader(f, h), size, opts)
-	if err != nil {
-		var fe *FileError
-		if errors.As(err, &fe) {
-			fe.Path = path
+	stdin := 0
+	for _, p := range paths {
+		if p == StdinPath {
+			stdin++
 		}
-		return nil, err
 	}
-	// The CSV reader stops at end of input, so nothing should remain; hash any remainder
-	// anyway so the checksum always covers the whole file.
-	if _, err := io.Copy(h, f); err != nil {
-		return nil, &FileError{Path: path, Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
+	if stdin > 1 {
+		return nil, &FileError{Path: StdinPath, Code: FileReadError, Err: errors.New("standard input (-) is given more than once; it can be read only once")}
 	}
-	ll.SHA256 = hex.EncodeToString(h.Sum(nil))
-	return ll, nil
+	rd := newReader(opts)
+	for _, p := range paths {
+		if err := rd.readPath(p); err != nil {
+			return nil, err
+		}
+	}
+	ll, err := rd.finish()
+	var fe *FileError
+	if len(paths) == 1 && errors.As(err, &fe) {
+		fe.Path = rd.ll.Sources[0].Name()
+	}
+	return ll, err
 }
 
 // Read reads a line list from r. See the package documentation for what is accepted and
@@ -136,28 +146,91 @@ func Read(r io.Reader, opts Options) (*LineList, error) {
 	if s, ok := r.(interface{ Size() int64 }); ok { // bytes.Reader, strings.Reader
 		size = s.Size()
 	}
-	return read(r, size, opts)
+	rd := newReader(opts)
+	rd.startSource("")
+	if err := rd.readStream(r, size, false); err != nil {
+		return nil, err
+	}
+	return rd.finish()
 }
 
 // reader holds the state of one read; nothing outlives it except the LineList.
 type reader struct {
-	ll     *LineList
-	idx    []int // header column per canonical column (Columns order), -1 if absent
-	in     InputConfig
-	asOf   Day
-	intern map[string]string
-	strata map[Strata]*Strata
+	ll      *LineList
+	src     int   // index in ll.Sources of the file being read
+	idx     []int // header column per canonical column (Columns order), -1 if absent
+	in      InputConfig
+	asOf    Day
+	maxRows int
+	sheet   string // Options.Sheet, else Input.Sheet
+	sheetBy string // which of the two chose it, for Source.SheetReason
+	stdin   io.Reader
+	intern  map[string]string
+	strata  map[Strata]*Strata
 	// encName is the decoder's decision as of the batch being read (the decoder itself
 	// runs on the splitting goroutine).
 	encName string
 }
 
-func read(src io.Reader, size int64, opts Options) (*LineList, error) {
-	in := opts.Input
-	br := bufio.NewReaderSize(src, prefixSize)
+func newReader(opts Options) *reader {
+	sheet, by := opts.Sheet, "chosen with --sheet"
+	if sheet == "" && opts.Input.Sheet != "" {
+		sheet, by = opts.Input.Sheet, "chosen by input.sheet in the config"
+	}
+	return &reader{
+		sheetBy: by,
+		ll:      &LineList{},
+		in:      opts.Input,
+		asOf:    opts.AsOf,
+		maxRows: opts.MaxRows,
+		sheet:   sheet,
+		stdin:   opts.Stdin,
+		intern:  map[string]string{},
+		strata:  map[Strata]*Strata{},
+	}
+}
+
+// cur is the Source being read.
+func (rd *reader) cur() *Source { return &rd.ll.Sources[rd.src] }
+
+// startSource appends the Source of the next file.
+func (rd *reader) startSource(path string) {
+	rd.ll.Sources = append(rd.ll.Sources, Source{Path: path})
+	rd.src = len(rd.ll.Sources) - 1
+}
+
+// countRow counts one data row of the current file and enforces Options.MaxRows.
+func (rd *reader) countRow() error {
+	rd.ll.Rows++
+	rd.cur().Rows++
+	if rd.maxRows > 0 && rd.ll.Rows > rd.maxRows {
+		return &FileError{Code: FileTooManyRows, Err: fmt.Errorf("the line list has more than %d data rows (counting every file of the run), the limit set for this run; raise the limit or split the file", rd.maxRows)}
+	}
+	return nil
+}
+
+// finish validates what every file contributed together: duplicates across all rows, the
+// per-file counts and the order of the problems.
+func (rd *reader) finish() (*LineList, error) {
+	ll := rd.ll
+	rd.dropDuplicates()
+	if len(ll.Cases) == 0 {
+		return nil, rd.noUsableRows()
+	}
+	for i := range ll.Cases {
+		ll.Sources[ll.Cases[i].Source].Used++
+	}
+	SortProblems(ll.Problems)
+	return ll, nil
+}
+
+// readCSV reads the current file as delimited text from br, whose size is known when
+// size > 0.
+func (rd *reader) readCSV(br *bufio.Reader, size int64) error {
+	in := rd.in
 	prefix, err := br.Peek(prefixSize)
 	if err != nil && err != io.EOF && err != bufio.ErrBufferFull {
-		return nil, &FileError{Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
+		return &FileError{Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
 	}
 	atEOF := err == io.EOF
 	bom := bytes.HasPrefix(prefix, utf8BOM)
@@ -166,10 +239,10 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		prefix = prefix[len(utf8BOM):]
 	}
 	if bytes.HasPrefix(prefix, []byte{0xFF, 0xFE}) || bytes.HasPrefix(prefix, []byte{0xFE, 0xFF}) {
-		return nil, &FileError{Code: FileUnsupportedEncoding, Err: errors.New("the file is UTF-16 (it starts with a UTF-16 byte-order mark); export it again as UTF-8 CSV")}
+		return &FileError{Code: FileUnsupportedEncoding, Err: errors.New("the file is UTF-16 (it starts with a UTF-16 byte-order mark); export it again as UTF-8 CSV")}
 	}
 	if atEOF && len(bytes.TrimSpace(prefix)) == 0 {
-		return nil, &FileError{Code: FileEmpty, Err: errors.New("the file is empty; export the line list again with its header and rows")}
+		return &FileError{Code: FileEmpty, Err: errors.New("the file is empty; export the line list again with its header and rows")}
 	}
 	// An export with carriage returns alone for line ends (the "CSV (Macintosh)" format of
 	// older spreadsheets) is read with each CR as a line break; the decision rests on the
@@ -180,7 +253,7 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		prefix = bytes.ReplaceAll(prefix, []byte{'\r'}, []byte{'\n'})
 	}
 	if looksBinary(prefix) {
-		return nil, &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV (a spreadsheet file such as .xlsx, or a UTF-16 export, cannot be read)")}
+		return &FileError{Code: FileNotCSV, Err: errors.New("the file is not text (it has NUL or control bytes near its start); export the line list as CSV or as an .xlsx workbook")}
 	}
 
 	var delim rune
@@ -202,13 +275,13 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 	rec, err := cr.Read()
 	switch {
 	case err == io.EOF:
-		return nil, &FileError{Code: FileEmpty, Err: errors.New("the file has only blank lines; export the line list again with its header and rows")}
+		return &FileError{Code: FileEmpty, Err: errors.New("the file has only blank lines; export the line list again with its header and rows")}
 	case err != nil:
 		var pe *csv.ParseError
 		if errors.As(err, &pe) {
-			return nil, &FileError{Code: FileNoHeader, Err: fmt.Errorf("the header line cannot be split into column names (%v at line %d, byte %d); fix the quotes in the header", pe.Err, pe.Line, pe.Column)}
+			return &FileError{Code: FileNoHeader, Err: fmt.Errorf("the header line cannot be split into column names (%v at line %d, byte %d); fix the quotes in the header", pe.Err, pe.Line, pe.Column)}
 		}
-		return nil, readErr(err)
+		return readErr(err)
 	}
 	header := make([]string, len(rec))
 	blank := true
@@ -219,22 +292,16 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 		}
 	}
 	if blank {
-		return nil, &FileError{Code: FileNoHeader, Err: errors.New("the first line has no column names; the file must start with a header line such as case_id,infector_id,onset_date")}
+		return &FileError{Code: FileNoHeader, Err: errors.New("the first line has no column names; the file must start with a header line such as case_id,infector_id,onset_date")}
 	}
 	idx, mapping, err := mapHeader(header, in, delim)
 	if err != nil {
-		return nil, err
+		return err
 	}
 
-	rd := &reader{
-		ll:     &LineList{Header: header, Mapping: mapping, Delimiter: delim, CROnly: crOnly},
-		idx:    idx,
-		in:     in,
-		asOf:   opts.AsOf,
-		intern: map[string]string{},
-		strata: map[Strata]*Strata{},
-	}
-	ll := rd.ll
+	rd.idx = idx
+	src := rd.cur()
+	src.Format, src.Header, src.Mapping, src.Delimiter, src.CROnly, src.HeaderRow, src.cols = FormatCSV, header, mapping, delim, crOnly, 1, idx
 	// Splitting records (encoding/csv and the text decoder) runs on its own goroutine, a
 	// batch ahead of turning them into cases; the batches arrive in file order, so the
 	// result is that of one sequential pass.
@@ -243,13 +310,12 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 	batches := splitRecords(cr, dec, stop)
 	for b := range batches {
 		if b.err != nil {
-			return nil, readErr(b.err)
+			return readErr(b.err)
 		}
 		rd.encName = b.enc
 		for _, r := range b.recs {
-			ll.Rows++
-			if opts.MaxRows > 0 && ll.Rows > opts.MaxRows {
-				return nil, &FileError{Code: FileTooManyRows, Err: fmt.Errorf("the file has more than %d data rows, the limit set for this run; raise the limit or split the file", opts.MaxRows)}
+			if err := rd.countRow(); err != nil {
+				return err
 			}
 			switch {
 			case r.pe != nil:
@@ -260,35 +326,36 @@ func read(src io.Reader, size int64, opts Options) (*LineList, error) {
 			default:
 				rd.row(r.fields, r.line)
 			}
-			if ll.Rows == presizeAt && size > 0 {
-				rd.presize(size, b.offset, opts.MaxRows)
+			if src.Rows == presizeAt && size > 0 {
+				rd.presize(size, b.offset)
 			}
 		}
 		recycle(b)
 	}
-	if ll.Rows == 0 {
-		return nil, &FileError{Code: FileNoDataRows, Err: errors.New("the file has a header but no data rows; check that the export included the cases")}
+	if src.Rows == 0 {
+		return &FileError{Code: FileNoDataRows, Err: errors.New("the file has a header but no data rows; check that the export included the cases")}
 	}
-	rd.dropDuplicates()
-	if len(ll.Cases) == 0 {
-		return nil, rd.noUsableRows()
-	}
-	ll.Encoding = dec.encoding()
-	SortProblems(ll.Problems)
-	return ll, nil
+	src.Encoding = dec.encoding()
+	return nil
 }
 
 func readErr(err error) error {
+	var fe *FileError
+	if errors.As(err, &fe) { // a limit of the decompressing reader
+		return fe
+	}
 	return &FileError{Code: FileReadError, Err: fmt.Errorf("cannot read the file: %v", err)}
 }
 
 // presize grows Cases once to the row count the file size suggests, so a large file does
 // not pay for repeated doubling (which briefly holds two copies of the slice).
-func (rd *reader) presize(size, offset int64, maxRows int) {
+func (rd *reader) presize(size, offset int64) {
 	if offset <= 0 {
 		return
 	}
-	est := size/offset*int64(rd.ll.Rows) + size%offset*int64(rd.ll.Rows)/offset
+	maxRows := rd.maxRows
+	n := int64(rd.cur().Rows)
+	est := size/offset*n + size%offset*n/offset + int64(len(rd.ll.Cases)-rd.cur().Rows)
 	est += est/50 + 1024
 	if maxRows > 0 && est > int64(maxRows) {
 		est = int64(maxRows)
@@ -299,7 +366,7 @@ func (rd *reader) presize(size, offset int64, maxRows int) {
 }
 
 func (rd *reader) problem(line int, col string, code Code, sev Severity, msg string) {
-	rd.ll.Problems = append(rd.ll.Problems, Problem{Row: line, Column: col, Code: code, Severity: sev, Message: msg})
+	rd.ll.Problems = append(rd.ll.Problems, Problem{Source: rd.src, Row: line, Column: col, Code: code, Severity: sev, Message: msg})
 }
 
 // quoteProblem reports a record encoding/csv could not split. Quotes are read strictly:
@@ -350,7 +417,7 @@ func (rd *reader) badText(s string) string {
 }
 
 func (rd *reader) row(rec []string, line int) {
-	r := rowState{line: line, c: Case{Row: line}}
+	r := rowState{line: line, c: Case{Row: line, Source: uint16(rd.src)}}
 	for ci := range columns {
 		columns[ci].decode(rd, &r, rd.cell(rec, ci))
 	}
@@ -418,7 +485,8 @@ func (rd *reader) dropDuplicates() {
 		}
 		drop[i] = true
 		dups++
-		rd.problem(cs[i].Row, ColCaseID, CodeDuplicateID, SeverityError, fmt.Sprintf("case_id %q was already used on line %d, whose row is kept; give this case its own identifier or delete the repeated row; row rejected", clip(cs[i].ID), cs[first].Row))
+		rd.ll.Problems = append(rd.ll.Problems, Problem{Source: int(cs[i].Source), Row: cs[i].Row, Column: ColCaseID, Code: CodeDuplicateID, Severity: SeverityError,
+			Message: fmt.Sprintf("case_id %q was already used at %s, whose row is kept; give this case its own identifier or delete the repeated row; row rejected", clip(cs[i].ID), rd.ll.PlaceOf(int(cs[first].Source), cs[first].Row, ColCaseID))})
 	}
 	if dups == 0 {
 		rd.ll.ByID = order
@@ -488,8 +556,15 @@ func (rd *reader) noUsableRows() error {
 		if i == 3 {
 			break
 		}
-		parts = append(parts, fmt.Sprintf("%d × %s (first on line %d: %s)", r.n, r.code, r.first.Row, clip(r.first.Message)))
+		parts = append(parts, fmt.Sprintf("%d × %s (first at %s: %s)", r.n, r.code, rd.ll.Place(r.first), clip(r.first.Message)))
 	}
-	return &FileError{Code: FileNoUsableRows, Err: fmt.Errorf("none of the %d data rows could be used: %s; the file was read with delimiter %s (set input.delimiter in the config if that is wrong)",
-		rd.ll.Rows, strings.Join(parts, "; "), delimName(rd.ll.Delimiter))}
+	hint := ""
+	for _, s := range rd.ll.Sources {
+		if s.Format != FormatWorkbook {
+			hint = fmt.Sprintf("; the file was read with delimiter %s (set input.delimiter in the config if that is wrong)", delimName(s.Delimiter))
+			break
+		}
+	}
+	return &FileError{Code: FileNoUsableRows, Err: fmt.Errorf("none of the %d data rows could be used: %s%s",
+		rd.ll.Rows, strings.Join(parts, "; "), hint)}
 }

@@ -135,8 +135,8 @@ func TestEveryProblemCode(t *testing.T) {
 	}
 	raw, _ := os.ReadFile(filepath.Join("testdata", "linelist", "problems.csv"))
 	sum := sha256.Sum256(raw)
-	if ll.SHA256 != hex.EncodeToString(sum[:]) {
-		t.Errorf("SHA256 = %s, want %x", ll.SHA256, sum)
+	if ll.Sources[0].SHA256 != hex.EncodeToString(sum[:]) {
+		t.Errorf("SHA256 = %s, want %x", ll.Sources[0].SHA256, sum)
 	}
 	for _, c := range ll.Cases {
 		for _, s := range []string{c.ID, c.InfectorID, c.Setting, c.AgeGroup, c.Jurisdiction} {
@@ -182,8 +182,8 @@ func TestDecoding(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkLedger(t, ll)
-			if ll.Delimiter != tt.delim || ll.Encoding != tt.enc {
-				t.Errorf("delimiter %q encoding %q; want %q %q", ll.Delimiter, ll.Encoding, tt.delim, tt.enc)
+			if ll.Sources[0].Delimiter != tt.delim || ll.Sources[0].Encoding != tt.enc {
+				t.Errorf("delimiter %q encoding %q; want %q %q", ll.Sources[0].Delimiter, ll.Sources[0].Encoding, tt.delim, tt.enc)
 			}
 			var got []string
 			for _, c := range ll.Cases {
@@ -195,8 +195,8 @@ func TestDecoding(t *testing.T) {
 			if len(ll.Problems) != 0 {
 				t.Errorf("problems: %v", ll.Problems)
 			}
-			if ll.Header[0] != "case_id" {
-				t.Errorf("header[0] = %q (BOM not stripped?)", ll.Header[0])
+			if ll.Sources[0].Header[0] != "case_id" {
+				t.Errorf("header[0] = %q (BOM not stripped?)", ll.Sources[0].Header[0])
 			}
 		})
 	}
@@ -229,8 +229,8 @@ func TestConfigDayFirst(t *testing.T) {
 	if got := keys(ll.Problems); fmt.Sprint(got) != fmt.Sprint([]probKey{{5, ColOnsetDate, CodeBadDate, SeverityError}}) {
 		t.Errorf("problems = %v", ll.Problems)
 	}
-	if ll.Mapping[ColOnsetDate] != "Début des symptômes" || ll.Mapping[ColInfectorID] != "Cas source" {
-		t.Errorf("mapping = %v", ll.Mapping)
+	if ll.Sources[0].Mapping[ColOnsetDate] != "Début des symptômes" || ll.Sources[0].Mapping[ColInfectorID] != "Cas source" {
+		t.Errorf("mapping = %v", ll.Sources[0].Mapping)
 	}
 }
 
@@ -251,7 +251,7 @@ func TestFileErrors(t *testing.T) {
 		{"BOM only", "\xef\xbb\xbf", Options{}, FileEmpty, nil},
 		{"header only", "case_id,onset_date\n", Options{}, FileNoDataRows, []string{"no data rows"}},
 		{"no header names", ",,\nA,2026-01-01,x\n", Options{}, FileNoHeader, nil},
-		{"binary", "PK\x03\x04\x14\x00\x06\x00\x08\x00\x00\x00!\x00\xb4\x12", Options{}, FileNotCSV, []string{"CSV"}},
+		{"binary", "PK\x03\x04\x14\x00\x06\x00\x08\x00\x00\x00!\x00\xb4\x12", Options{}, FileNotWorkbook, []string{"zip archive", "CSV"}},
 		{"UTF-16", "\xff\xfec\x00a\x00", Options{}, FileUnsupportedEncoding, []string{"UTF-8"}},
 		{"missing onset", "Case ID,Infector,Name\nA,,x\n", Options{}, FileMissingColumn,
 			[]string{"onset_date", "dateofonset", `"Case ID", "Infector", "Name"`, "input.columns.onset_date"}},
@@ -396,8 +396,8 @@ func TestManyColumns(t *testing.T) {
 	row[n-2], row[n-1] = "A", "2026-01-01"
 	data := strings.Join(header, ",") + "\n" + strings.Join(row, ",") + "\n"
 	ll := mustRead(t, data, Options{})
-	if len(ll.Cases) != 1 || ll.Cases[0].ID != "A" || len(ll.Header) != n {
-		t.Fatalf("cases %v header %d", ll.Cases, len(ll.Header))
+	if len(ll.Cases) != 1 || ll.Cases[0].ID != "A" || len(ll.Sources[0].Header) != n {
+		t.Fatalf("cases %v header %d", ll.Cases, len(ll.Sources[0].Header))
 	}
 }
 
@@ -428,8 +428,8 @@ func TestInvalidUTF8MidFile(t *testing.T) {
 		if fmt.Sprint(keys(ll.Problems)) != fmt.Sprint(want) {
 			t.Fatalf("problems %v", ll.Problems)
 		}
-		if fmt.Sprint(caseIDs(ll)) != "[A B D]" || ll.Cases[1].Setting != "" || ll.Cases[2].InfectorID != "" || ll.Encoding != EncUTF8 {
-			t.Errorf("cases %+v encoding %s", ll.Cases, ll.Encoding)
+		if fmt.Sprint(caseIDs(ll)) != "[A B D]" || ll.Cases[1].Setting != "" || ll.Cases[2].InfectorID != "" || ll.Sources[0].Encoding != EncUTF8 {
+			t.Errorf("cases %+v encoding %s", ll.Cases, ll.Sources[0].Encoding)
 		}
 		if !strings.Contains(ll.Problems[0].Message, "input.encoding") {
 			t.Errorf("message %q does not say what to do", ll.Problems[0].Message)
@@ -444,8 +444,8 @@ func TestInvalidUTF8MidFile(t *testing.T) {
 		b.WriteString("Z,2026-01-02,caf\xe9\n")
 		ll := mustRead(t, b.String(), Options{})
 		last := ll.Cases[len(ll.Cases)-1]
-		if last.ID != "Z" || last.Setting != "café" || ll.Encoding != EncWindows1252 || len(ll.Problems) != 0 {
-			t.Errorf("last %+v encoding %s problems %v", last, ll.Encoding, ll.Problems)
+		if last.ID != "Z" || last.Setting != "café" || ll.Sources[0].Encoding != EncWindows1252 || len(ll.Problems) != 0 {
+			t.Errorf("last %+v encoding %s problems %v", last, ll.Sources[0].Encoding, ll.Problems)
 		}
 	})
 }
@@ -530,8 +530,8 @@ func TestHeaderVariants(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", tt.header, err)
 		}
-		if fmt.Sprint(ll.Mapping) != fmt.Sprint(tt.want) {
-			t.Errorf("%s: mapping %v, want %v", tt.header, ll.Mapping, tt.want)
+		if fmt.Sprint(ll.Sources[0].Mapping) != fmt.Sprint(tt.want) {
+			t.Errorf("%s: mapping %v, want %v", tt.header, ll.Sources[0].Mapping, tt.want)
 		}
 	}
 }
@@ -563,8 +563,8 @@ func TestReadFileMatchesRead(t *testing.T) {
 	}
 	checkLedger(t, a)
 	sum := sha256.Sum256(data)
-	if a.SHA256 != hex.EncodeToString(sum[:]) || b.SHA256 != "" {
-		t.Errorf("SHA256 %q / %q", a.SHA256, b.SHA256)
+	if a.Sources[0].SHA256 != hex.EncodeToString(sum[:]) || b.Sources[0].SHA256 != "" {
+		t.Errorf("SHA256 %q / %q", a.Sources[0].SHA256, b.Sources[0].SHA256)
 	}
 	if len(a.Cases) != 5000 || !reflect.DeepEqual(a.Cases, b.Cases) {
 		t.Errorf("ReadFile and Read disagree: %d vs %d cases", len(a.Cases), len(b.Cases))
@@ -613,8 +613,8 @@ func TestByIDSortedAfterDuplicates(t *testing.T) {
 // file whose every row is rejected is unusable, with its reasons and delimiter.
 func TestLineEndsTimesAndUnusableFiles(t *testing.T) {
 	ll := mustRead(t, "case_id,onset_date\rA,2026-01-01\rB,2026-01-02\r", Options{})
-	if fmt.Sprint(caseIDs(ll)) != "[A B]" || !ll.CROnly || ll.Cases[1].Row != 3 {
-		t.Errorf("CR-only file: cases %v, CR only %v", ll.Cases, ll.CROnly)
+	if fmt.Sprint(caseIDs(ll)) != "[A B]" || !ll.Sources[0].CROnly || ll.Cases[1].Row != 3 {
+		t.Errorf("CR-only file: cases %v, CR only %v", ll.Cases, ll.Sources[0].CROnly)
 	}
 	ll = mustRead(t, "case_id,onset_date\nA,2026-01-01\rB,2026-01-02\nC,2026-01-03\n", Options{})
 	if len(ll.Problems) != 1 || !strings.Contains(ll.Problems[0].Message, "carriage return") {

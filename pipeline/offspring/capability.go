@@ -1,5 +1,7 @@
 package offspring
 
+import "math/rand/v2"
+
 // A Distribution needs only its PMF and PGF; everything in package branching works from
 // those. The interfaces below are optional capabilities a model may add when it knows a
 // faster or more accurate form of one piece of algebra. Package branching asks for each with
@@ -64,6 +66,20 @@ type IndividualR interface {
 	// ShareCausing is the smallest share of cases, ranked by ν largest first, that together
 	// cause the share target (0 < target < 1) of all transmission (the "20/80" reading by ν).
 	ShareCausing(target float64) (float64, error)
+}
+
+// NuPosterior is an IndividualR that can condition a case's ν on the offspring it has had so
+// far. A case whose serial interval has run for the share F (its serial-interval CDF at the
+// time elapsed since its onset) and which has infected o people carries ν | o, and its
+// offspring still to come are Poisson(ν(1 − F)). Branching uses it for the chance that the
+// chains now under way die out and for the cases they may still cause.
+type NuPosterior interface {
+	// PosteriorMean is E[ν | o, F] for a model of mean R.
+	PosteriorMean(mean, o, elapsed float64) float64
+	// PosteriorLogLaplace is log E[e^{−tν} | o, F], t ≥ 0.
+	PosteriorLogLaplace(mean, o, elapsed, t float64) float64
+	// PosteriorSample draws ν | o, F; with o = F = 0, ν from its prior.
+	PosteriorSample(rng *rand.Rand, mean, o, elapsed float64) float64
 }
 
 // FiniteSupport is a model with P(Z = x) = 0 for every x above MaxCount: sums over the PMF

@@ -3,6 +3,9 @@ package offspring
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
+
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 
 	"gonum.org/v1/gonum/mathext"
 )
@@ -84,3 +87,43 @@ type pointKept struct{ keep float64 }
 func (p pointKept) Moments() (m1, m2 float64)         { return p.keep, p.keep }
 func (p pointKept) Laplace(z float64) float64         { return p.keep * math.Exp(-z) }
 func (p pointKept) Poisson(mu float64, x int) float64 { return p.keep * Poisson{R: mu}.PMF(x) }
+
+// PosteriorMean is E[ν | o offspring seen while the elapsed share F of the case's serial
+// interval has passed]: with Z_seen | ν ~ Poisson(νF) and the gamma prior of shape k and
+// rate k/R, the posterior is gamma of shape k + o and rate k/R + F (the gamma–Poisson
+// conjugacy; Gelman et al., Bayesian Data Analysis, 3rd ed., 2013, §2.6), whose mean is
+// (k + o)/(k/R + F).
+func (g GammaNu) PosteriorMean(mean, o, elapsed float64) float64 {
+	if mean == 0 {
+		return 0
+	}
+	return (g.Shape + o) / (g.Shape/mean + elapsed)
+}
+
+// PosteriorLogLaplace is log E[e^{−tν} | o offspring seen in the elapsed share F]: the
+// Laplace transform of the gamma posterior of PosteriorMean,
+// −(k + o)·log(1 + t/(k/R + F)).
+func (g GammaNu) PosteriorLogLaplace(mean, o, elapsed, t float64) float64 {
+	if mean == 0 || t == 0 {
+		return 0
+	}
+	return -(g.Shape + o) * math.Log1p(t/(g.Shape/mean+elapsed))
+}
+
+// PosteriorMean is R: a point ν learns nothing from the offspring seen.
+func (PointNu) PosteriorMean(mean, _, _ float64) float64 { return mean }
+
+// PosteriorLogLaplace is −tR.
+func (PointNu) PosteriorLogLaplace(mean, _, _, t float64) float64 { return -t * mean }
+
+// PosteriorSample draws ν from the gamma posterior of PosteriorMean (Marsaglia–Tsang,
+// numeric.Gamma); with o = 0 and F = 0 it is the prior, Gamma(k, mean R).
+func (g GammaNu) PosteriorSample(rng *rand.Rand, mean, o, elapsed float64) float64 {
+	if mean == 0 {
+		return 0
+	}
+	return numeric.Gamma(rng, g.Shape+o) / (g.Shape/mean + elapsed)
+}
+
+// PosteriorSample is R.
+func (PointNu) PosteriorSample(_ *rand.Rand, mean, _, _ float64) float64 { return mean }

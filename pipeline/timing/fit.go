@@ -243,13 +243,23 @@ func (t intervalTable) moments() (mean, variance float64) {
 const impossiblePenalty = -1e6
 
 func logLik(si SerialInterval, values, counts []int) float64 {
+	ll, _ := logLikImpossible(si, values, counts)
+	return ll
+}
+
+// logLikImpossible is the log-likelihood with impossiblePenalty standing for each interval
+// the distribution gives no mass, and the number of such intervals: a fit is possible only
+// when there are none. The count, not the size of the total, says so: the total of a large
+// sample (a few hundred thousand links) lies far below any fixed penalty.
+func logLikImpossible(si SerialInterval, values, counts []int) (float64, int) {
 	if si.Validate() != nil {
 		// Every DailyMass would be NaN: the likelihood is the penalty for every interval.
-		ll := 0.0
+		ll, n := 0.0, 0
 		for _, c := range counts {
 			ll += float64(c) * impossiblePenalty
+			n += c
 		}
-		return ll
+		return ll, n
 	}
 	// values ascend, so day d's upper edge d + 0.5 is day d + 1's lower edge: each edge's
 	// CDF and survival are computed once and shared, with the same formulas as DailyMass
@@ -271,7 +281,7 @@ func logLik(si SerialInterval, values, counts []int) float64 {
 		return e.s
 	}
 	prev := edge{x: math.NaN()}
-	ll := 0.0
+	ll, impossible := 0.0, 0
 	for i, v := range values {
 		if counts[i] == 0 {
 			continue
@@ -294,11 +304,12 @@ func logLik(si SerialInterval, values, counts []int) float64 {
 		}
 		if !(m > 0) {
 			ll += float64(counts[i]) * impossiblePenalty
+			impossible += counts[i]
 			continue
 		}
 		ll += float64(counts[i]) * math.Log(m)
 	}
-	return ll
+	return ll, impossible
 }
 
 // family describes one parametric serial-interval family on the optimiser's scale θ.
@@ -401,7 +412,7 @@ func objective(fam family, tab intervalTable, th [2]float64) float64 {
 func fitFamily(fam family, tab intervalTable, start [2]float64) (ModelFit, [2]float64, error) {
 	th := minimise(fam, tab, start)
 	si := fam.build(th)
-	ll := logLik(si, tab.values, tab.counts)
+	ll, impossible := logLikImpossible(si, tab.values, tab.counts)
 	mf := ModelFit{
 		Name: fam.name, Mean: si.Mean(), SD: si.SD(), Params: si.Params(),
 		LogLik: ll, AIC: 2*2 - 2*ll, Dist: si,
@@ -413,7 +424,7 @@ func fitFamily(fam family, tab intervalTable, start [2]float64) (ModelFit, [2]fl
 			mf.AtBound = true
 		}
 	}
-	if !numeric.IsFinite(mf.Mean) || !numeric.IsFinite(mf.SD) || !numeric.IsFinite(mf.LogLik) || ll <= impossiblePenalty {
+	if !numeric.IsFinite(mf.Mean) || !numeric.IsFinite(mf.SD) || !numeric.IsFinite(mf.LogLik) || impossible > 0 {
 		return ModelFit{}, th, fmt.Errorf("serial interval: %s fit did not reach a finite optimum", fam.name)
 	}
 	return mf, th, nil

@@ -8,6 +8,8 @@ import (
 	"sort"
 	"strconv"
 	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // TestFitMatchesSciPy compares each family's interval-censored MLE with the one SciPy 1.10.1
@@ -274,5 +276,33 @@ func TestBootstrapWorkersIndependent(t *testing.T) {
 	}
 	if a.Bootstrap.Failed != 0 || a.Bootstrap.Replicates != 60 {
 		t.Errorf("bootstrap info %+v", a.Bootstrap)
+	}
+}
+
+// A million links fit as well as a thousand: the log-likelihood of a large sample lies far
+// below any fixed penalty value, and only an interval the distribution cannot produce makes
+// a fit impossible. 600,000 intervals from a gamma of mean 5 and SD 2.5 (simulated here with
+// gonum's distuv, rounded to whole days) give a gamma fit of mean 5 to within sampling error.
+func TestSerialFitOnHundredsOfThousandsOfLinks(t *testing.T) {
+	g := distuv.Gamma{Alpha: 4, Beta: 0.8, Src: rand.New(rand.NewPCG(3, 4))}
+	intervals := make([]int, 600_000)
+	for i := range intervals {
+		intervals[i] = int(math.Round(g.Rand()))
+	}
+	fit, err := FitSerialInterval(intervals, FitOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var gamma *ModelFit
+	for i := range fit.Models {
+		if fit.Models[i].Name == NameGamma {
+			gamma = &fit.Models[i]
+		}
+	}
+	if gamma == nil {
+		t.Fatalf("no gamma fit among %+v", fit.Models)
+	}
+	if math.Abs(gamma.Mean-5) > 0.02 || gamma.LogLik > -1e6 {
+		t.Errorf("gamma mean %v (want 5 ± 0.02), log-likelihood %v (a sample this size lies below −10^6)", gamma.Mean, gamma.LogLik)
 	}
 }

@@ -38,6 +38,41 @@ type PageCheck struct {
 	ConsoleErrors     []string // console errors, uncaught exceptions and browser-log errors
 	RequestsAttempted int      // requests the page tried to make (all were blocked)
 	RequestURLs       []string // their URLs
+	// LabelsChecked counts the texts the charts drew (axis names and labels, titles,
+	// legends, mark labels); Clipped lists those whose bounding box leaves their chart's
+	// area, as "chart id: text [x0 y0 x1 y1] outside W×H".
+	LabelsChecked int
+	Clipped       []string
+}
+
+// labelProbe measures every text element each chart drew, through ECharts' renderer
+// (zrender): its bounding rectangle in the chart's own pixels, after its transform, against
+// the chart's width and height. A text a pixel or more outside is clipped on the page.
+const labelProbe = `(function () {
+  var out = {checked: 0, clipped: []};
+  if (typeof echarts === "undefined") { return out; }
+  document.querySelectorAll("[data-cw-chart]").forEach(function (el) {
+    var ch = echarts.getInstanceByDom(el);
+    if (!ch) { return; }
+    var w = ch.getWidth(), h = ch.getHeight();
+    ch.getZr().storage.getDisplayList(true).forEach(function (d) {
+      if ((d.type !== "text" && d.type !== "tspan") || d.invisible || !d.style || !d.style.text) { return; }
+      var r = d.getBoundingRect().clone();
+      d.updateTransform();
+      if (d.transform) { r.applyTransform(d.transform); }
+      out.checked++;
+      if (r.x < -1 || r.y < -1 || r.x + r.width > w + 1 || r.y + r.height > h + 1) {
+        out.clipped.push(el.id + ": " + JSON.stringify(String(d.style.text)) + " [" +
+          [r.x, r.y, r.x + r.width, r.y + r.height].map(Math.round).join(" ") + "] outside " + w + "×" + h);
+      }
+    });
+  });
+  return out;
+})()`
+
+type labelState struct {
+	Checked int      `json:"checked"`
+	Clipped []string `json:"clipped"`
 }
 
 // chartProbe reports, for each chart element, whether its canvas has a size and at least a
@@ -197,10 +232,19 @@ func openPage(ctx context.Context, html []byte, width int64) (*session, error) {
 	return s, nil
 }
 
-// InspectInBrowser opens html in a fresh headless chromium with all network blocked and
-// reports the charts found and drawn, console errors and requests attempted.
+// InspectInBrowser opens html in a fresh headless chromium 1280 pixels wide with all
+// network blocked and reports the charts found and drawn, the chart texts drawn outside
+// their chart, console errors and requests attempted.
 func InspectInBrowser(ctx context.Context, html []byte) (*PageCheck, error) {
-	s, err := openPage(ctx, html, 1280)
+	return InspectAtWidth(ctx, html, 1280)
+}
+
+// A4Width is the width in CSS pixels of an A4 page (210 mm at 96 pixels to the inch).
+const A4Width = 794
+
+// InspectAtWidth is InspectInBrowser in a window width pixels wide (A4Width for paper).
+func InspectAtWidth(ctx context.Context, html []byte, width int64) (*PageCheck, error) {
+	s, err := openPage(ctx, html, width)
 	if err != nil {
 		return nil, err
 	}
@@ -209,6 +253,10 @@ func InspectInBrowser(ctx context.Context, html []byte) (*PageCheck, error) {
 	if err != nil {
 		return nil, fmt.Errorf("probing charts: %w", err)
 	}
+	labels, err := chromedp.Run(s.ctx, chromedp.Evaluate[labelState](labelProbe))
+	if err != nil {
+		return nil, fmt.Errorf("measuring chart labels: %w", err)
+	}
 	// Give late console messages and requests a moment to arrive.
 	if err := chromedp.Do(s.ctx, chromedp.Sleep(200*time.Millisecond)); err != nil {
 		return nil, err
@@ -216,6 +264,7 @@ func InspectInBrowser(ctx context.Context, html []byte) (*PageCheck, error) {
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	check := s.check
+	check.LabelsChecked, check.Clipped = labels.Checked, labels.Clipped
 	check.ChartsFound = len(states)
 	for _, c := range states {
 		if c.Drawn {
@@ -227,8 +276,15 @@ func InspectInBrowser(ctx context.Context, html []byte) (*PageCheck, error) {
 	return &check, nil
 }
 
-// PrintPDF prints html to PDF on A4 with backgrounds, with every fold-out opened so the
-// "how this was computed" notes are on paper too.
+// pdfFooter is the footer of every printed page: the report's title (its <title>, which
+// names the place and the analysis date) and the page number of the total. Chromium fills
+// the spans of these classes; a footer has no font size of its own, so it sets one.
+const pdfFooter = `<div style="font: 8pt system-ui, Arial, sans-serif; color: #5b6670; width: 100%; margin: 0 14mm; display: flex; justify-content: space-between;">` +
+	`<span class="title"></span><span>page <span class="pageNumber"></span> of <span class="totalPages"></span></span></div>`
+
+// PrintPDF prints html to PDF on A4 with backgrounds and a footer on every page (the title
+// and "page n of m"), with every fold-out opened so the "how this was computed" notes are on
+// paper too.
 func PrintPDF(ctx context.Context, html []byte) ([]byte, error) {
 	s, err := openPage(ctx, html, 1280)
 	if err != nil {
@@ -243,6 +299,9 @@ func PrintPDF(ctx context.Context, html []byte) ([]byte, error) {
 		chromedp.PDFPaper(chromedp.PaperA4),
 		chromedp.PDFPrintBackground(),
 		chromedp.PDFPreferCSSPageSize(),
+		chromedp.PDFMargins(0.55, 0.6, 0.7, 0.6),
+		chromedp.PDFHeaderTemplate(`<span></span>`),
+		chromedp.PDFFooterTemplate(pdfFooter),
 	))
 	if err != nil {
 		return nil, fmt.Errorf("printing to PDF: %w", err)

@@ -1,0 +1,303 @@
+// Package forecast projects case counts by ISO week of onset by simulating the fitted
+// branching process in calendar time from the cases known at the analysis date.
+package forecast
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"slices"
+	"sync"
+
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/linelist"
+	"github.com/caseweave/caseweave/pipeline/offspring"
+	"github.com/caseweave/caseweave/pipeline/timing"
+)
+
+// Case is a case known at the analysis date: its onset and the people it has infected so
+// far (a mean when infectors were inferred).
+type Case struct {
+	Onset     linelist.Day
+	Offspring float64
+}
+
+// Options configure Forecast.
+type Options struct {
+	// AsOf is the analysis date: every case with onset after it is a forecast.
+	AsOf linelist.Day
+	// Weeks is how many ISO weeks are forecast, from the Monday after AsOf (1 to MaxWeeks).
+	Weeks int
+	// Serial is the serial-interval distribution.
+	Serial timing.SerialInterval
+	// Models are the offspring distributions to simulate, one batch of PerModel simulations
+	// each: the bootstrap replicates, so that the intervals carry the uncertainty in R and k.
+	Models   []offspring.Distribution
+	PerModel int
+	// ImportsPerWeek adds imported cases with onset after AsOf at this mean weekly rate
+	// (Poisson), each starting a chain of its own.
+	ImportsPerWeek float64
+	// Seed makes the simulations reproducible; simulation s draws from its own stream, so
+	// the result does not depend on Workers.
+	Seed    uint64
+	Workers int
+	// MaxCases stops a simulation that has made this many new cases (0: DefaultMaxCases);
+	// its counts then bound the truth from below only.
+	MaxCases int
+}
+
+// MaxWeeks caps Options.Weeks.
+const MaxWeeks = 12
+
+// DefaultMaxCases is the default cap on the new cases of one simulation.
+const DefaultMaxCases = 1_000_000
+
+// Week is the predictive distribution of the cases with onset in one ISO week.
+type Week struct {
+	Start linelist.Day // its Monday
+	Mean  float64
+	// Median and the central 50% and 90% prediction intervals; an upper end is nil when it
+	// falls among simulations stopped at MaxCases.
+	Median   *int
+	P50, P90 [2]*int
+}
+
+// Result is the forecast.
+type Result struct {
+	Weeks       []Week
+	Simulations int
+	// Capped counts the simulations stopped at MaxCases.
+	Capped int
+}
+
+// ErrNoNuPosterior: the model cannot condition a case's reproduction number on what it has
+// done so far (offspring.NuPosterior).
+var ErrNoNuPosterior = errors.New("forecast: the offspring model has no individual reproduction number to condition")
+
+// Forecast simulates the branching process forward in calendar time. Each known case with
+// onset t_i has had the share F_i = F(AsOf − t_i + ½) of its serial interval observed (an
+// infectee's onset is its infector's plus the serial interval rounded to the day, so those
+// with X ≤ AsOf − t_i + ½ are already in the list); given the o_i people it has infected,
+// its reproduction number ν_i is drawn from its posterior (for the negative binomial gamma
+// with shape k + o_i and rate k/R + F_i, the gamma–Poisson conjugacy: Gelman et al.,
+// Bayesian Data Analysis, 3rd ed., 2013, §2.6), so a case that has infected many keeps
+// infecting; it infects Poisson(ν_i(1 − F_i)) more people, each with onset t_i + round(X),
+// X drawn from the serial interval given X > AsOf − t_i + ½ (by inversion of F). Every new
+// case draws ν from the prior, Gamma(k, mean R), infects Poisson(ν) people after
+// round(X) days, and so on until onsets pass the last forecast week. This is the
+// Bienaymé–Galton–Watson process of the fitted model run in calendar time; the intervals
+// are quantiles over all simulations, which mix over Models.
+func Forecast(cases []Case, o Options) (*Result, error) {
+	if o.Weeks < 1 || o.Weeks > MaxWeeks {
+		return nil, fmt.Errorf("forecast: weeks %d outside 1..%d", o.Weeks, MaxWeeks)
+	}
+	if o.Serial == nil || o.Serial.Validate() != nil {
+		return nil, errors.New("forecast: a valid serial interval is needed")
+	}
+	if len(o.Models) == 0 || o.PerModel < 1 {
+		return nil, errors.New("forecast: no offspring models to simulate")
+	}
+	if !(o.ImportsPerWeek >= 0) || math.IsInf(o.ImportsPerWeek, 0) {
+		return nil, fmt.Errorf("forecast: imports per week %v must be finite and ≥ 0", o.ImportsPerWeek)
+	}
+	type model struct {
+		post offspring.NuPosterior
+		r    float64
+	}
+	models := make([]model, len(o.Models))
+	for i, d := range o.Models {
+		mp, ok := d.(offspring.MixedPoisson)
+		if !ok {
+			return nil, fmt.Errorf("%w (%s)", ErrNoNuPosterior, d.Name())
+		}
+		post, ok := mp.IndividualR().(offspring.NuPosterior)
+		if !ok {
+			return nil, fmt.Errorf("%w (%s)", ErrNoNuPosterior, d.Name())
+		}
+		r := d.Mean()
+		if !(r >= 0) || math.IsInf(r, 0) {
+			return nil, fmt.Errorf("forecast: model %d has mean %v", i, r)
+		}
+		models[i] = model{post, r}
+	}
+	maxCases := o.MaxCases
+	if maxCases <= 0 {
+		maxCases = DefaultMaxCases
+	}
+	first := o.AsOf.ISOWeekStart() + 7
+	last := first + linelist.Day(7*o.Weeks) - 1 // the last Sunday
+	// The known cases that may still infect someone with onset up to the last Sunday,
+	// with their elapsed share.
+	type seed struct {
+		onset linelist.Day
+		off   float64
+		f     float64
+	}
+	var seeds []seed
+	for _, c := range cases {
+		if c.Onset > o.AsOf {
+			return nil, fmt.Errorf("forecast: a case has onset %v after the analysis date %v", c.Onset, o.AsOf)
+		}
+		if !(c.Offspring >= 0) || math.IsInf(c.Offspring, 0) {
+			return nil, fmt.Errorf("forecast: a case has %v offspring", c.Offspring)
+		}
+		f := o.Serial.CDF(float64(o.AsOf-c.Onset) + 0.5)
+		if 1-f < 1e-12 {
+			continue // its serial interval has run out: nothing more to come
+		}
+		seeds = append(seeds, seed{c.Onset, c.Offspring, f})
+	}
+	days := newDayTable(o.Serial)
+	total := len(models) * o.PerModel
+	counts := make([][]int, total)
+	capped := make([]bool, total)
+	workers := o.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	workers = min(workers, total)
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			var stack []linelist.Day
+			for s := range next {
+				m := models[s/o.PerModel]
+				rng := numeric.StreamRand(o.Seed, s)
+				weeks := make([]int, o.Weeks)
+				made := 0
+				stack = stack[:0]
+				// add records a new case; false once the cap is reached.
+				add := func(on linelist.Day) bool {
+					if on > last {
+						return true // beyond the forecast: neither counted nor followed
+					}
+					if made++; made > maxCases {
+						return false
+					}
+					if on >= first {
+						weeks[(on-first)/7]++
+					}
+					stack = append(stack, on)
+					return true
+				}
+				ok := true
+				for _, sd := range seeds {
+					nu := m.post.PosteriorSample(rng, m.r, sd.off, sd.f)
+					n := numeric.Poisson(rng, nu*(1-sd.f))
+					for range n {
+						if ok = add(sd.onset + days.draw(sd.f+rng.Float64()*(1-sd.f))); !ok {
+							break
+						}
+					}
+					if !ok {
+						break
+					}
+				}
+				if ok && o.ImportsPerWeek > 0 {
+					for d := o.AsOf + 1; d <= last && ok; d++ {
+						for range numeric.Poisson(rng, o.ImportsPerWeek/7) {
+							if ok = add(d); !ok {
+								break
+							}
+						}
+					}
+				}
+				for ok && len(stack) > 0 {
+					on := stack[len(stack)-1]
+					stack = stack[:len(stack)-1]
+					nu := m.post.PosteriorSample(rng, m.r, 0, 0)
+					for range numeric.Poisson(rng, nu) {
+						if ok = add(on + days.draw(rng.Float64())); !ok {
+							break
+						}
+					}
+				}
+				counts[s], capped[s] = weeks, !ok
+			}
+		}()
+	}
+	for s := range total {
+		next <- s
+	}
+	close(next)
+	wg.Wait()
+	res := &Result{Simulations: total}
+	for _, c := range capped {
+		if c {
+			res.Capped++
+		}
+	}
+	col := make([]float64, total)
+	for w := range o.Weeks {
+		var sum numeric.Sum
+		for s := range total {
+			v := float64(counts[s][w])
+			if capped[s] {
+				v = math.Inf(1) // a lower bound only: sorts above every count
+			}
+			col[s] = v
+			sum.Add(float64(counts[s][w]))
+		}
+		slices.Sort(col)
+		wk := Week{Start: first + linelist.Day(7*w), Mean: sum.Value() / float64(total),
+			Median: quantile(col, 0.5),
+			P50:    [2]*int{quantile(col, 0.25), quantile(col, 0.75)},
+			P90:    [2]*int{quantile(col, 0.05), quantile(col, 0.95)}}
+		if res.Capped > 0 {
+			wk.Mean = math.NaN() // not known: the capped simulations hold only lower bounds
+		}
+		res.Weeks = append(res.Weeks, wk)
+	}
+	return res, nil
+}
+
+// quantile is the p-quantile of a sorted sample of counts as the inverse of its empirical
+// distribution function, the smallest value with at least a share p of the sample at or
+// below it (Hyndman & Fan 1996, Am Stat 50:361, definition 1): a count, as a prediction of
+// a count must be. Nil when it is +Inf.
+func quantile(sorted []float64, p float64) *int {
+	i := int(math.Ceil(p*float64(len(sorted)))) - 1
+	i = min(max(i, 0), len(sorted)-1)
+	v := sorted[i]
+	if math.IsInf(v, 1) {
+		return nil
+	}
+	n := int(v)
+	return &n
+}
+
+// dayTable draws the serial interval rounded to the day, round(X), by inversion of its
+// cumulative distribution: cum[d] = P(round(X) ≤ d) = F(d + ½). A uniform u in (F(e), 1)
+// gives round(X) given X > e for e = lag + ½, since the event X > lag + ½ is round(X) >
+// lag. Beyond the table, where 1 − F is below 1e−13, the continuous quantile is used.
+type dayTable struct {
+	cum    []float64
+	serial timing.SerialInterval
+}
+
+// maxTableDays bounds the table of a serial interval with a very long tail.
+const maxTableDays = 10_000
+
+func newDayTable(si timing.SerialInterval) dayTable {
+	t := dayTable{serial: si}
+	for d := 0; d < maxTableDays; d++ {
+		c := si.CDF(float64(d) + 0.5)
+		t.cum = append(t.cum, c)
+		if si.Survival(float64(d)+0.5) < 1e-13 {
+			break
+		}
+	}
+	return t
+}
+
+func (t dayTable) draw(u float64) linelist.Day {
+	if d, ok := slices.BinarySearch(t.cum, u); d < len(t.cum) {
+		_ = ok
+		return linelist.Day(d)
+	}
+	return linelist.Day(math.Round(t.serial.Quantile(u)))
+}
