@@ -106,7 +106,7 @@ func TestPoolGroups(t *testing.T) {
 // targeting needs less effort than random removal.
 func TestControlSummary(t *testing.T) {
 	cases, _ := outbreak(t, 1.6, 0.3, 150, 3, "2026-03-20")
-	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 200, Seed: 5})
+	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 100, Seed: 5})
 	c := s.Control
 	if c == nil || len(c.Strategies) != 3 || c.Efforts[0] != 0 || c.Efforts[len(c.Efforts)-1] != 1 {
 		t.Fatalf("control %+v", c)
@@ -140,7 +140,7 @@ func TestControlSummary(t *testing.T) {
 	if !(*c.Strategies[2].Threshold.Estimate < *c.Strategies[1].Threshold.Estimate) {
 		t.Errorf("targeted threshold %v not below random %v", *c.Strategies[2].Threshold.Estimate, *c.Strategies[1].Threshold.Estimate)
 	}
-	if c.Replicates != 200 {
+	if c.Replicates != 100 {
 		t.Errorf("%d replicates", c.Replicates)
 	}
 }
