@@ -166,3 +166,21 @@ func TestReleaseMultitype(t *testing.T) {
 		t.Error("a threshold above the pooling threshold kept the age-group outlook")
 	}
 }
+
+// nextGeneration keeps each row's mean and shares it as the row's infectees with an age group
+// are; a row with none takes the shares of all rows, and with none anywhere equal shares.
+func TestNextGenerationShares(t *testing.T) {
+	M := nextGeneration([]float64{2, 1, 0.5}, [][]float64{{3, 1, 0}, {0, 0, 0}, {0, 0, 0}})
+	want := [][]float64{{1.5, 0.5, 0}, {0.75, 0.25, 0}, {0.375, 0.125, 0}}
+	for i := range want {
+		for j := range want[i] {
+			if math.Abs(M[i][j]-want[i][j]) > 1e-15 {
+				t.Errorf("M[%d][%d] = %v, want %v", i, j, M[i][j], want[i][j])
+			}
+		}
+	}
+	M = nextGeneration([]float64{0.9, 0}, [][]float64{{0, 0}, {0, 0}})
+	if M[0][0] != 0.45 || M[0][1] != 0.45 || M[1][0] != 0 {
+		t.Errorf("no infectee with an age group: %v", M)
+	}
+}
