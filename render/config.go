@@ -36,7 +36,9 @@ var sectionTitles = []struct{ name, title string }{
 	{"concentration", "Who drove transmission"},
 	{"clusters", "Transmission chains"},
 	{"outlook", "Outlook"},
+	{"control", "What control could do"},
 	{"age_mixing", "Who infected whom, by age group"},
+	{"age_outlook", "Outlook by age group"},
 	{"strata", "By setting"},
 	{"serial_interval", "Time between onsets"},
 	{"weekly_r", "Reproduction number by week"},
@@ -68,6 +70,7 @@ func SectionNames() []string {
 //	suppress_below: 5          # counts 1..4 print as "<5"
 //	labels: {outlook: "What may come next"}
 //	sections: [headline, epicurve, offspring, r_and_k, outlook, cautions, provenance]
+//	hide: [control, age_outlook]   # sections left out, whatever sections: says
 //	caution: "Paragraphs separated by blank lines."
 //	incubation_days: 14        # longest incubation period, for the rule of thumb
 //	pseudonym_key: "…"         # keys the hash that replaces case identifiers
@@ -89,6 +92,8 @@ type Config struct {
 	Labels map[string]string
 	// Sections lists the sections to show; empty means all.
 	Sections []string
+	// Hide lists sections not to show, whatever Sections says.
+	Hide []string
 	// Caution is the cautions text; paragraphs are separated by blank lines.
 	Caution string
 	// IncubationDays is the longest incubation period, for the end-of-outbreak rule of thumb.
@@ -239,22 +244,8 @@ var configKeys = []configKey{
 		}
 		return nil
 	}},
-	{"sections", func(c *Config, v *yaml.Node) error {
-		if v.Kind != yaml.SequenceNode {
-			return configErr(v.Line, "sections must be a list of section names ([headline, outlook, ...])")
-		}
-		for _, e := range v.Content {
-			var name string
-			if err := decodeScalar(e, "sections", &name); err != nil {
-				return err
-			}
-			if !slices.Contains(SectionNames(), name) {
-				return configErr(e.Line, "sections: unknown section %q (known: %s)", name, strings.Join(SectionNames(), ", "))
-			}
-			c.Sections = append(c.Sections, name)
-		}
-		return nil
-	}},
+	{"sections", func(c *Config, v *yaml.Node) error { return decodeSectionList(v, "sections", &c.Sections) }},
+	{"hide", func(c *Config, v *yaml.Node) error { return decodeSectionList(v, "hide", &c.Hide) }},
 	{"caution", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "caution", &c.Caution) }},
 	{"incubation_days", func(c *Config, v *yaml.Node) error {
 		var d int
@@ -380,9 +371,28 @@ func yamlErrorLine(err error) int {
 	return 0
 }
 
-// shows reports whether the named section is enabled.
+// decodeSectionList reads a list of section names under key.
+func decodeSectionList(v *yaml.Node, key string, out *[]string) error {
+	if v.Kind != yaml.SequenceNode {
+		return configErr(v.Line, "%s must be a list of section names ([headline, outlook, ...])", key)
+	}
+	for _, e := range v.Content {
+		var name string
+		if err := decodeScalar(e, key, &name); err != nil {
+			return err
+		}
+		if !slices.Contains(SectionNames(), name) {
+			return configErr(e.Line, "%s: unknown section %q (known: %s)", key, name, strings.Join(SectionNames(), ", "))
+		}
+		*out = append(*out, name)
+	}
+	return nil
+}
+
+// shows reports whether the named section is enabled: listed in Sections (or Sections
+// empty) and not in Hide.
 func (c *Config) shows(section string) bool {
-	return len(c.Sections) == 0 || slices.Contains(c.Sections, section)
+	return (len(c.Sections) == 0 || slices.Contains(c.Sections, section)) && !slices.Contains(c.Hide, section)
 }
 
 // title is the section's display title, honouring labels.

@@ -201,6 +201,16 @@ func fixtureSummary() *analysis.Summary {
 			Largest:    []analysis.TreeView{tree("PX-0041", 57, 40, "2024-01-03"), tree("PX-0107", 41, 30, "2024-01-20"), tree("PX-0233", 23, 23, "2024-02-05")},
 			NodesShown: 40,
 		},
+		Control: fixtureControl(),
+		Multitype: &analysis.Multitype{
+			Groups: []string{"0–17", "18–39", "40–64 + 65+"}, MinCases: 10, Pooled: true,
+			PoolRule: "an age group with fewer than 10 cases outside the censoring window is joined to the next older group",
+			Matrix:   [][]float64{{0.5, 0.2, 0.1}, {0.3, 0.6, 0.2}, {0.1, 0.2, 0.4}},
+			K:        []*float64{fp(0.4), fp(0.3), nil}, R: est(0.93, 0.71, 1.2, 0.7, 1.19), Replicates: 1000,
+			Extinction: []float64{1, 1, 1}, Start: "active",
+			GenerationShares: [][]float64{{0.3, 0.5, 0.2}, {0.32, 0.47, 0.21}},
+			StableShares:     []float64{0.33, 0.45, 0.22}, UnknownAge: ip(0), UnknownInfectees: ip(12),
+		},
 		AgeMixing: &analysis.AgeMixing{
 			Groups: []string{"0–17", "18–39", "40–64", "65+"},
 			Counts: [][]*int{{ip(41), ip(22), ip(9), ip(3)}, {ip(30), ip(58), ip(25), ip(6)}, {ip(11), ip(27), ip(39), ip(14)}, {ip(2), ip(5), ip(12), ip(17)}},
@@ -254,6 +264,7 @@ func hostileSummary() *analysis.Summary {
 	s.EpiCurve.Series[0].Name = hostileStrings[1]
 	s.EpiCurve.Series[1].Name = hostileStrings[8]
 	s.AgeMixing.Groups[0] = hostileStrings[1]
+	s.Multitype.Groups[0] = hostileStrings[1]
 	s.Clusters.Largest[0].Nodes[1].Setting = hostileStrings[1]
 	s.Offspring.Models[0].Name = hostileStrings[4]
 	s.Offspring.Superspreaders = append(s.Offspring.Superspreaders, hostileStrings[9])
@@ -261,4 +272,22 @@ func hostileSummary() *analysis.Summary {
 	s.Tool.Version = hostileStrings[0]
 	s.SerialInterval.NegativeTreatment = hostileStrings[2]
 	return s
+}
+
+// fixtureControl is a control section for R = 0.8 (every threshold 0).
+func fixtureControl() *analysis.Control {
+	c := &analysis.Control{Model: "negative_binomial", Replicates: 500}
+	for i := 0; i <= 20; i++ {
+		c.Efforts = append(c.Efforts, float64(i)/20)
+	}
+	for _, name := range []string{"population", "individual", "targeted"} {
+		st := analysis.ControlStrategy{Name: name, Threshold: est(0, 0, 0.2, 0, 0.21)}
+		for _, e := range c.Efforts {
+			r := 0.8 * (1 - e)
+			st.R = append(st.R, est(r, 0.6*(1-e), 1.05*(1-e), 0.6*(1-e), 1.05*(1-e)))
+			st.Extinction = append(st.Extinction, est(1, 0.9+0.1*e, 1, 0.9+0.1*e, 1))
+		}
+		c.Strategies = append(c.Strategies, st)
+	}
+	return c
 }

@@ -22,6 +22,7 @@ func newOutlookCmd(e env) *cobra.Command {
 		generations int
 		share       float64
 		jsonOut     string
+		control     bool
 	)
 	c := &cobra.Command{
 		Use:   "outlook (--model poisson|geometric|negbin --R x [--k x] | --pmf p0,p1,... [--normalize]) [flags]",
@@ -29,7 +30,13 @@ func newOutlookCmd(e env) *cobra.Command {
 		Long: `outlook takes an offspring distribution — a model with its parameters, or a list of
 probabilities P(Z=0), P(Z=1), ... — and works out the extinction probability, the distribution
 of the next generations' sizes from --active cases, the chain-size distribution, the share of
-cases responsible for --share of transmission, and the superspreading threshold.`,
+cases responsible for --share of transmission, and the superspreading threshold.
+
+--control adds what control would do (Lloyd-Smith et al. 2005): for efforts from 0 to 1, the
+reproduction number and the chance that one introduction dies out when everyone's transmission
+is cut by that share, when that share of cases is stopped at random, and when the most
+infectious share of cases is stopped (models with a gamma or fixed individual R only), with
+the effort that brings R below 1 under each.`,
 		Args: exactArgs(0, "no positional arguments"),
 		RunE: func(c *cobra.Command, args []string) error {
 			d, err := outlookDistribution(c, model, R, k, pmf, normalize)
@@ -54,8 +61,15 @@ cases responsible for --share of transmission, and the superspreading threshold.
 				text = e.stderr // standard output carries the JSON alone
 			}
 			printOutlook(text, res)
+			doc := newOutlookJSON(res)
+			if control {
+				if doc.Control, err = outlookControl(d); err != nil {
+					return withCode(exitInput, err)
+				}
+				printControl(text, doc.Control)
+			}
 			if jsonOut != "" {
-				return writeJSON(e, jsonOut, newOutlookJSON(res))
+				return writeJSON(e, jsonOut, doc)
 			}
 			return nil
 		},
@@ -70,6 +84,7 @@ cases responsible for --share of transmission, and the superspreading threshold.
 	f.IntVar(&generations, "generations", 5, "generations to decode")
 	f.Float64Var(&share, "share", 0.8, "target share of transmission for the concentration measure")
 	f.StringVar(&jsonOut, "json", "", "write the outlook as JSON to FILE (- for stdout)")
+	f.BoolVar(&control, "control", false, "add the control scenarios: population-wide, random and targeted")
 	return c
 }
 
@@ -173,6 +188,78 @@ type outlookJSON struct {
 		// TruncatedMass = q − Σ PMF (finite chains longer than the list).
 		TruncatedMass float64 `json:"truncated_mass"`
 	} `json:"chain_size"`
+	// Control is present with --control.
+	Control []outlookControlJSON `json:"control,omitempty"`
+}
+
+// outlookControlJSON is one control strategy of `outlook --control`; Points run over
+// controlEfforts, and Threshold is the effort that brings R to 1.
+type outlookControlJSON struct {
+	Strategy  string                    `json:"strategy"`
+	Threshold float64                   `json:"threshold"`
+	Points    []outlookControlPointJSON `json:"points"`
+}
+
+type outlookControlPointJSON struct {
+	Effort                float64 `json:"effort"`
+	R                     float64 `json:"R"`
+	ExtinctionProbability float64 `json:"extinction_probability"`
+}
+
+// controlEfforts are the efforts `outlook --control` evaluates.
+var controlEfforts = []float64{0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1}
+
+// outlookControl evaluates every control strategy the distribution supports; targeted
+// control needs a distribution of individual R, which an offspring list lacks.
+func outlookControl(d offspring.Distribution) ([]outlookControlJSON, error) {
+	var out []outlookControlJSON
+	for _, s := range branching.ControlStrategies {
+		if _, err := branching.Controlled(d, s, 0); err != nil {
+			if s == branching.ControlTargeted {
+				continue
+			}
+			return nil, err
+		}
+		pts, err := branching.ControlCurve(d, s, controlEfforts)
+		if err != nil {
+			return nil, err
+		}
+		th, err := branching.ControlThreshold(d, s)
+		if err != nil {
+			return nil, err
+		}
+		c := outlookControlJSON{Strategy: s, Threshold: th}
+		for _, p := range pts {
+			c.Points = append(c.Points, outlookControlPointJSON{Effort: p.Effort, R: p.R, ExtinctionProbability: p.Extinction})
+		}
+		out = append(out, c)
+	}
+	return out, nil
+}
+
+func printControl(w io.Writer, cs []outlookControlJSON) {
+	fmt.Fprintf(w, "\nControl (Lloyd-Smith et al. 2005): R and the chance one introduction dies out\n")
+	fmt.Fprintf(w, "  %-8s", "effort")
+	for _, c := range cs {
+		fmt.Fprintf(w, " %21s", c.Strategy)
+	}
+	fmt.Fprintln(w)
+	for i, e := range controlEfforts {
+		fmt.Fprintf(w, "  %-8s", strconv.FormatFloat(100*e, 'f', 0, 64)+"%")
+		for _, c := range cs {
+			p := c.Points[i]
+			fmt.Fprintf(w, "   R %6.3f  q %8.6f", p.R, p.ExtinctionProbability)
+		}
+		fmt.Fprintln(w)
+	}
+	fmt.Fprintf(w, "  %-8s", "R < 1 at")
+	for _, c := range cs {
+		fmt.Fprintf(w, " %20.4f%%", 100*c.Threshold)
+	}
+	fmt.Fprintln(w)
+	if len(cs) < len(branching.ControlStrategies) {
+		fmt.Fprintln(w, "  (no targeted control: a list of offspring probabilities gives no individual R to rank cases by)")
+	}
 }
 
 type outlookGenerationJSON struct {

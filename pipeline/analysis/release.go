@@ -138,6 +138,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	releaseWeeks(c)
 	releaseTrend(c)
 	coarsenTrees(c, thr)
+	releaseMultitype(c, thr)
 	return &Released{s: c}, nil
 }
 

@@ -28,6 +28,8 @@ type Summary struct {
 	InferredLinks  *InferredLinks  `json:"inferred_links,omitempty"`
 	EndOfOutbreak  *EndOfOutbreak  `json:"end_of_outbreak,omitempty"`
 	Assessment     *Assessment     `json:"assessment,omitempty"`
+	Control        *Control        `json:"control,omitempty"`
+	Multitype      *Multitype      `json:"multitype,omitempty"`
 
 	EpiCurve  *EpiCurve  `json:"epi_curve,omitempty"`
 	Clusters  *Clusters  `json:"clusters,omitempty"`
@@ -465,4 +467,80 @@ type Stratum struct {
 	Cases         *int     `json:"cases"`
 	Counted       *int     `json:"counted"`
 	MeanOffspring *float64 `json:"mean_offspring"`
+}
+
+// Control is what control measures would do to the fitted offspring model [Lloyd-Smith et
+// al. 2005, Nature 438:355]: for each strategy and each effort c of Efforts, the effective
+// reproduction number and the probability that one new introduction dies out, with
+// bootstrap intervals over the offspring fit's replicates, and the effort that brings R to 1.
+type Control struct {
+	// Model is the offspring model the scenarios rest on.
+	Model string `json:"model"`
+	// AboveOne is whether the fitted R, with no control, is above 1: otherwise every chain
+	// dies out already and every threshold is 0.
+	AboveOne bool `json:"above_one"`
+	// Efforts are the control efforts c, from 0 (no control) to 1.
+	Efforts []float64 `json:"efforts"`
+	// Strategies are "population" (every case's individual R scaled by 1 − c),
+	// "individual" (a share c of cases, chosen at random, prevented from transmitting) and
+	// "targeted" (the share c of cases with the largest individual R prevented), in that order.
+	Strategies []ControlStrategy `json:"strategies"`
+	// Replicates is the number of the offspring bootstrap's replicates behind the intervals
+	// (the first ones, at most 500).
+	Replicates int `json:"replicates"`
+}
+
+// ControlStrategy is one strategy's curve. R[i] and Extinction[i] belong to Efforts[i].
+type ControlStrategy struct {
+	Name       string     `json:"name"`
+	R          []Estimate `json:"R"`
+	Extinction []Estimate `json:"extinction_probability"`
+	// Threshold is the smallest effort with R at most 1 (0 when R is already at most 1):
+	// 1 − 1/R for the population and individual strategies.
+	Threshold Estimate `json:"threshold"`
+}
+
+// Multitype is the branching-process outlook by age group: a multitype process whose
+// next-generation matrix comes from who infected whom [Diekmann, Heesterbeek & Metz 1990;
+// Harris 1963, ch. II]. Its types are the age groups after pooling (PoolRule); cases with
+// no recorded age group are left out.
+type Multitype struct {
+	// Groups names the types in age order; a pooled type joins its age groups with " + ".
+	Groups []string `json:"groups"`
+	// MinCases is the pooling threshold: a type rests on at least this many cases.
+	MinCases int `json:"min_cases"`
+	// PoolRule says in words how sparse age groups were pooled.
+	PoolRule string `json:"pool_rule"`
+	// Pooled is true when at least one age group was pooled with another.
+	Pooled bool `json:"pooled"`
+	// Matrix[i][j] is the mean number of cases of type j infected by one case of type i, over
+	// the cases outside the censoring window (the single-type fit's rule).
+	Matrix [][]float64 `json:"matrix"`
+	// K[i] is the negative-binomial dispersion fitted to type i's offspring counts, null in
+	// the Poisson limit.
+	K []*float64 `json:"k"`
+	// R is the spectral radius of Matrix, with percentile intervals from a bootstrap that
+	// resamples cases within each type (no BCa interval).
+	R Estimate `json:"R"`
+	// Replicates is the number of bootstrap replicates behind R's interval.
+	Replicates int `json:"replicates"`
+	// Extinction[i] is the probability that the chain started by one new case of type i
+	// dies out.
+	Extinction []float64 `json:"extinction_probability"`
+	// Start is what the generation shares start from: "active" (the cases inside the
+	// censoring window, still able to transmit) or "all" (every case with an age group,
+	// when none is active).
+	Start string `json:"start"`
+	// GenerationShares[g][j] is the expected share of type j among the cases of generation
+	// g + 1 from Start; a row is null when no case is expected.
+	GenerationShares [][]float64 `json:"generation_shares"`
+	// StableShares is the share of each type in the late generations of a growing outbreak
+	// (the left Perron eigenvector of Matrix), null when Matrix has no positive eigenvalue.
+	StableShares []float64 `json:"stable_shares"`
+	// UnknownAge counts the cases outside the censoring window left out for having no age
+	// group; UnknownInfectees the infectees of the counted cases with no age group, who
+	// count toward their infector's row, shared among the types as its other infectees are.
+	// In a released view each is null below the threshold.
+	UnknownAge       *int `json:"unknown_age"`
+	UnknownInfectees *int `json:"unknown_infectees"`
 }

@@ -136,3 +136,34 @@ func BenchmarkFitChainSizesNational(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkControlCurveTargeted is one strategy's curve as the report computes it for each
+// bootstrap replicate: 21 efforts of targeted control (incomplete gamma functions).
+func BenchmarkControlCurveTargeted(b *testing.B) {
+	d := offspring.NegBin{R: 1.6, K: 0.4}
+	eff := make([]float64, 21)
+	for i := range eff {
+		eff[i] = float64(i) / 20
+	}
+	for b.Loop() {
+		if _, err := ControlCurve(d, ControlTargeted, eff); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkMultitypeExtinction4 is the per-type extinction of a 4-type process with
+// negative-binomial totals.
+func BenchmarkMultitypeExtinction4(b *testing.B) {
+	M := [][]float64{{0.9, 0.5, 0.3, 0.1}, {0.4, 1.2, 0.5, 0.2}, {0.2, 0.6, 0.8, 0.3}, {0.1, 0.3, 0.4, 0.5}}
+	k := []float64{0.3, 0.8, 0.5, 2}
+	mt, err := NewMultitype(M, func(R float64, i int) offspring.Distribution { return offspring.NegBin{R: R, K: k[i]} })
+	if err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		if _, err := mt.MultitypeExtinction(); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -22,6 +22,15 @@
 //     reproductive number and by realised offspring (ShareByNu, ShareByOffspring);
 //   - the end-of-outbreak probability P(t) = Π_i G(F(t − t_i)) of Nishiura, Miyamatsu &
 //     Mizumoto (2016, Emerg Infect Dis 22:146), F the serial-interval CDF (EndOfOutbreak);
+//   - the control scenarios of Lloyd-Smith et al. (2005, Nature 438:355) as offspring
+//     distributions of their own, so that every routine above applies to them: every ν
+//     scaled by 1 − c, a random share c of cases removed, or the share c with the largest ν
+//     removed, and the effort that brings R to 1 (Controlled, ControlCurve, ControlThreshold);
+//   - the multitype process of a next-generation matrix with multinomially split totals: R as
+//     its spectral radius [Diekmann, Heesterbeek & Metz 1990], the extinction probability per
+//     type as the minimal fixed point of the multitype PGF [Harris 1963, ch. II], and the
+//     shares of the types in later generations (Multitype, SpectralRadius, StableShares,
+//     GenerationShares);
 //   - Outlook, which assembles all of these for one model.
 //
 // Every routine works from the Distribution's PMF and PGF; where a model offers a capability

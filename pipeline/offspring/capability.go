@@ -87,3 +87,25 @@ type NuPosterior interface {
 type FiniteSupport interface {
 	MaxCount() int
 }
+
+// TargetedRemover is an IndividualR that can say what is left when the share c (0 ≤ c ≤ 1)
+// of cases with the largest ν is removed, every removed case causing no transmission: the
+// targeted control of Lloyd-Smith et al. (2005, Nature 438:355). Package branching builds
+// the targeted-control scenario from it.
+type TargetedRemover interface {
+	RemoveTop(c float64) KeptNu
+}
+
+// KeptNu describes the cases left in place by TargetedRemover.RemoveTop(c), with ν scaled to
+// mean 1 (ν₁ = ν/R) and x_c the (1 − c) quantile of ν₁. Its expectations E[·; ν₁ ≤ x_c] run
+// over all cases, the removed ones contributing nothing.
+type KeptNu interface {
+	// Moments returns E[ν₁; ν₁ ≤ x_c] and E[ν₁²; ν₁ ≤ x_c]: the first is the share of
+	// transmission the cases left in place still cause.
+	Moments() (m1, m2 float64)
+	// Laplace returns E[e^{−zν₁}; ν₁ ≤ x_c] for z ≥ 0.
+	Laplace(z float64) float64
+	// Poisson returns E[e^{−μν₁}(μν₁)^x/x!; ν₁ ≤ x_c]: the probability that a case is left
+	// in place and has x offspring, when the mean offspring before control is μ.
+	Poisson(mu float64, x int) float64
+}

@@ -34,6 +34,60 @@ type PointNu struct{}
 // ShareCausing is the target itself.
 func (PointNu) ShareCausing(target float64) (float64, error) { return target, nil }
 
+// RemoveTop cuts ν₁ = ν/R ~ Gamma(shape k, rate k) at x_c, its (1 − c) quantile, held as
+// t_c = k·x_c, the point with Q(k, t_c) = c for the regularized upper incomplete gamma
+// function Q (+Inf at c = 0, 0 at c = 1).
+func (g GammaNu) RemoveTop(c float64) KeptNu {
+	t := 0.0
+	switch {
+	case c <= 0:
+		t = math.Inf(1)
+	case c < 1:
+		t = mathext.GammaIncRegCompInv(g.Shape, c)
+	}
+	return gammaKept{k: g.Shape, t: t}
+}
+
+type gammaKept struct{ k, t float64 }
+
+// gammaIncReg is P(a, x), with P(a, +Inf) = 1.
+func gammaIncReg(a, x float64) float64 {
+	if math.IsInf(x, 1) {
+		return 1
+	}
+	return mathext.GammaIncReg(a, x)
+}
+
+// Moments: for ν₁ ~ Gamma(k, rate k), E[ν₁ⁿ; ν₁ ≤ x] = Γ(k + n)/(Γ(k)kⁿ)·P(k + n, kx), so
+// m1 = P(k + 1, t_c) and m2 = (k + 1)/k·P(k + 2, t_c) (truncated moments of the gamma
+// density; Lloyd-Smith et al. 2005, supplement, use m1 for the targeted-control R).
+func (g gammaKept) Moments() (m1, m2 float64) {
+	return gammaIncReg(g.k+1, g.t), (g.k + 1) / g.k * gammaIncReg(g.k+2, g.t)
+}
+
+// Laplace: ∫₀^{x_c} e^{−zν} kᵏν^{k−1}e^{−kν}/Γ(k) dν = (1 + z/k)^{−k}·P(k, t_c(1 + z/k)),
+// substituting u = (k + z)ν in the incomplete gamma integral.
+func (g gammaKept) Laplace(z float64) float64 {
+	return math.Exp(-g.k*math.Log1p(z/g.k)) * gammaIncReg(g.k, g.t*(1+z/g.k))
+}
+
+// Poisson: ∫₀^{x_c} e^{−μν}(μν)ˣ/x!·kᵏν^{k−1}e^{−kν}/Γ(k) dν = NB(x; μ, k)·P(x + k,
+// t_c(1 + μ/k)), NB the negative binomial PMF of mean μ and dispersion k (the same
+// substitution as Laplace).
+func (g gammaKept) Poisson(mu float64, x int) float64 {
+	return NegBin{R: mu, K: g.k}.PMF(x) * gammaIncReg(float64(x)+g.k, g.t*(1+mu/g.k))
+}
+
+// RemoveTop: every case has ν₁ = 1, so removing the share c of cases leaves 1 − c of every
+// expectation.
+func (PointNu) RemoveTop(c float64) KeptNu { return pointKept{keep: 1 - c} }
+
+type pointKept struct{ keep float64 }
+
+func (p pointKept) Moments() (m1, m2 float64)         { return p.keep, p.keep }
+func (p pointKept) Laplace(z float64) float64         { return p.keep * math.Exp(-z) }
+func (p pointKept) Poisson(mu float64, x int) float64 { return p.keep * Poisson{R: mu}.PMF(x) }
+
 // PosteriorMean is E[ν | o offspring seen while the elapsed share F of the case's serial
 // interval has passed]: with Z_seen | ν ~ Poisson(νF) and the gamma prior of shape k and
 // rate k/R, the posterior is gamma of shape k + o and rate k/R + F (the gamma–Poisson
