@@ -29,8 +29,9 @@ const DefaultCaution = "These figures describe the cases that were reported and 
 // Section names a part of the report that config.yaml can hide or retitle.
 var sectionTitles = []struct{ name, title string }{
 	{"headline", "At a glance"},
-	{"data_quality", "Data quality"},
 	{"epicurve", "Cases over time"},
+	{"forecast", "The weeks ahead"},
+	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},
 	{"r_and_k", "Reproduction number and spread"},
 	{"concentration", "Who drove transmission"},

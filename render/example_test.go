@@ -40,5 +40,5 @@ func ExampleParseConfig() {
 
 func ExampleChartNames() {
 	fmt.Println(render.ChartNames()[:3])
-	// Output: [epicurve offspring bootstrap_r]
+	// Output: [epicurve forecast offspring]
 }

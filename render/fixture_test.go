@@ -184,7 +184,12 @@ func fixtureSummary() *analysis.Summary {
 				{Days: 12, Count: 8}, {Days: 13, Count: 6}, {Days: 14, Count: 5}, {Days: 16, Count: 4}, {Days: 18, Count: 2}},
 			Density: density,
 		},
-		TimeVarying:   wr,
+		TimeVarying: wr,
+		Forecast: &analysis.Forecast{Simulations: 2000, Replicates: 200, DelayCases: 240, Weeks: []analysis.ForecastWeek{
+			{WeekStart: weeks[len(weeks)-1] + 7, Mean: fp(21.4), Median: ip(20), P50: [2]*int{ip(14), ip(27)}, P90: [2]*int{ip(7), ip(41)}},
+			{WeekStart: weeks[len(weeks)-1] + 14, Mean: fp(19.8), Median: ip(17), P50: [2]*int{ip(9), ip(27)}, P90: [2]*int{ip(2), ip(52)}},
+			{WeekStart: weeks[len(weeks)-1] + 21, Mean: fp(18.1), Median: ip(14), P50: [2]*int{ip(5), ip(26)}, P90: [2]*int{ip(0), ip(63)}},
+		}},
 		InferredLinks: &analysis.InferredLinks{Inferred: 38, NoCandidate: 4},
 		EndOfOutbreak: &analysis.EndOfOutbreak{Curve: curve, P95Date: dp("2024-04-16"), P99Date: dp("2024-05-01"), LastOnset: day("2024-03-20"),
 			P95Range:    [2]*linelist.Day{dp("2024-04-10"), dp("2024-04-24")},

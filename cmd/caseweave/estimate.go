@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 	"sync"
@@ -13,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/caseweave/caseweave/pipeline/analysis"
+	"github.com/caseweave/caseweave/pipeline/forecast"
 )
 
 // estimateFlags are the analysis flags `estimate` and `report` share.
@@ -25,9 +27,12 @@ type estimateFlags struct {
 	interval    string
 	unit        string
 	generations int
-	serialFixed string
-	workers     int
-	infer       bool
+	// forecastWeeks and importsPerWeek shape the forecast by week.
+	forecastWeeks  int
+	importsPerWeek float64
+	serialFixed    string
+	workers        int
+	infer          bool
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -41,6 +46,8 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.StringVar(&f.interval, "interval", analysis.IntervalPercentile, "interval that headlines: percentile or bca (both are in the JSON)")
 	fl.StringVar(&f.unit, "unit", analysis.UnitCase, "bootstrap unit: case, or cluster (resample whole transmission chains)")
 	fl.IntVar(&f.generations, "generations", 4, "generations to project")
+	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12)")
+	fl.Float64Var(&f.importsPerWeek, "imports-per-week", 0, "mean number of imported cases a week added to the forecast")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
 	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
@@ -51,7 +58,13 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 	o := analysis.Options{
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
-		InferMissing: f.infer,
+		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
+	}
+	if f.forecastWeeks < 1 || f.forecastWeeks > forecast.MaxWeeks {
+		return o, usageErrorf("--forecast-weeks must be between 1 and %d, got %d", forecast.MaxWeeks, f.forecastWeeks)
+	}
+	if !(f.importsPerWeek >= 0) || math.IsInf(f.importsPerWeek, 0) {
+		return o, usageErrorf("--imports-per-week must be a number of at least 0, got %v", f.importsPerWeek)
 	}
 	if c.Flags().Changed("censor-days") {
 		if f.censorDays < 0 {
@@ -246,6 +259,16 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 		fmt.Fprintf(w, "  cases still able to transmit         %d\n", ol.Active)
 		for _, p := range ol.Projection {
 			fmt.Fprintf(w, "  generation %d: mean %s, 50%% %s, 90%% %s, P(none) %.2f\n", p.Generation, fmtNum(p.Mean, 1), fmtCounts(p.P50), fmtCounts(p.P90), p.PZero)
+		}
+	}
+	if fc := s.Forecast; fc != nil {
+		fmt.Fprintf(w, "\nForecast by week of onset (%d simulations)\n", fc.Simulations)
+		for _, wk := range fc.Weeks {
+			med := "?"
+			if wk.Median != nil {
+				med = strconv.Itoa(*wk.Median)
+			}
+			fmt.Fprintf(w, "  week of %s: median %s, 50%% %s, 90%% %s\n", wk.WeekStart, med, fmtCounts(wk.P50), fmtCounts(wk.P90))
 		}
 	}
 	printNotes(w, s)

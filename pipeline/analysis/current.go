@@ -7,13 +7,20 @@ import (
 	"sort"
 
 	"github.com/caseweave/caseweave/pipeline/branching"
+	"github.com/caseweave/caseweave/pipeline/forecast"
 	"github.com/caseweave/caseweave/pipeline/offspring"
 )
 
 // exposures groups the report's cases by offspring so far and days since onset, each with
-// the serial-interval CDF at that lag (branching.Exposure); nil without a serial interval.
+// the share of its infectees already in the list (forecast.Elapsed: the serial interval, and
+// the reporting delay when the list has report dates; branching.Exposure); nil without a
+// serial interval.
 func (a *run) exposures() []branching.Exposure {
 	if a.serial == nil {
+		return nil
+	}
+	elapsed, err := forecast.Elapsed(a.serial, a.delay())
+	if err != nil {
 		return nil
 	}
 	type key struct {
@@ -42,7 +49,7 @@ func (a *run) exposures() []branching.Exposure {
 	for _, k := range keys {
 		f := 1.0 // an onset after the analysis date cannot be (the reader rejects it); a guard
 		if k.lag >= 0 {
-			f = math.Min(1, math.Max(0, a.serial.CDF(float64(k.lag))))
+			f = elapsed(int(min(k.lag, math.MaxInt32)))
 		}
 		out = append(out, branching.Exposure{Offspring: k.off, Elapsed: f, Count: groups[k]})
 	}

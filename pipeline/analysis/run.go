@@ -10,6 +10,7 @@ import (
 	"sort"
 
 	"github.com/caseweave/caseweave/pipeline/branching"
+	"github.com/caseweave/caseweave/pipeline/forecast"
 	"github.com/caseweave/caseweave/pipeline/forest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -37,8 +38,13 @@ type Options struct {
 	// InferMissing assigns infectors to unlinked, non-imported cases by Wallinga–Teunis
 	// weights, afresh in every bootstrap replicate.
 	InferMissing bool
-	Generations  int     // generations projected (default 4)
-	Share        float64 // target share of transmission (default 0.8)
+	Generations  int // generations projected (default 4)
+	// ForecastWeeks is how many ISO weeks after the analysis date are forecast (default
+	// DefaultForecastWeeks; at most forecast.MaxWeeks).
+	ForecastWeeks int
+	// ImportsPerWeek adds imported cases to the forecast at this mean weekly rate.
+	ImportsPerWeek float64
+	Share          float64 // target share of transmission (default 0.8)
 	// IncubationDays, if positive, adds the "twice the longest incubation period" rule of thumb.
 	IncubationDays int
 	// Select restricts the summary to some cases (a --by value); nil selects all. Offspring
@@ -118,6 +124,15 @@ func (o *Options) defaults() error {
 	if o.Generations == 0 {
 		o.Generations = 4
 	}
+	if o.ForecastWeeks == 0 {
+		o.ForecastWeeks = DefaultForecastWeeks
+	}
+	if o.ForecastWeeks < 1 || o.ForecastWeeks > forecast.MaxWeeks {
+		return fmt.Errorf("the forecast covers 1 to %d weeks, got %d", forecast.MaxWeeks, o.ForecastWeeks)
+	}
+	if !(o.ImportsPerWeek >= 0) || math.IsInf(o.ImportsPerWeek, 0) {
+		return fmt.Errorf("imports per week must be a finite number of at least 0, got %v", o.ImportsPerWeek)
+	}
 	if o.Generations < 1 || o.Generations > 50 {
 		return fmt.Errorf("projections cover 1 to 50 generations, got %d", o.Generations)
 	}
@@ -165,6 +180,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.outlook()
 	a.control()
 	a.endOfOutbreak()
+	a.forecast()
 	a.weekly()
 	a.epiCurve()
 	a.assess()
@@ -194,8 +210,12 @@ type run struct {
 	infer    *timing.Infectors // nil unless missing infectors are inferred
 	expected []float64         // expected inferred offspring per case
 	counts   []int32           // the offspring counts the estimates use
-	weekSums []weekSum         // offspring of the cases of each onset week, in week order
-	weekK    float64           // the dispersion behind the weekly intervals
+	// delayPMF is the reporting delay (delay), delayCases the cases it rests on.
+	delayPMF   []float64
+	delayCases int
+	delayDone  bool
+	weekSums   []weekSum // offspring of the cases of each onset week, in week order
+	weekK      float64   // the dispersion behind the weekly intervals
 }
 
 // weekSum is one onset week's cases and the offspring they caused.

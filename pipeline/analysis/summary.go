@@ -27,6 +27,7 @@ type Summary struct {
 	TimeVarying    []WeekR         `json:"time_varying,omitempty"`
 	InferredLinks  *InferredLinks  `json:"inferred_links,omitempty"`
 	EndOfOutbreak  *EndOfOutbreak  `json:"end_of_outbreak,omitempty"`
+	Forecast       *Forecast       `json:"forecast,omitempty"`
 	Assessment     *Assessment     `json:"assessment,omitempty"`
 	Control        *Control        `json:"control,omitempty"`
 	Multitype      *Multitype      `json:"multitype,omitempty"`
@@ -358,6 +359,35 @@ type WeekR struct {
 type InferredLinks struct {
 	Inferred    int `json:"inferred"`
 	NoCandidate int `json:"no_candidate"`
+}
+
+// Forecast is the expected number of cases by ISO week of onset in the weeks after the
+// analysis date, by simulating the fitted process forward from the report's cases (package
+// forecast).
+type Forecast struct {
+	Weeks []ForecastWeek `json:"weeks"`
+	// Simulations is how many runs the intervals rest on, Replicates how many bootstrap
+	// replicates of R and k they mix over.
+	Simulations int `json:"simulations"`
+	Replicates  int `json:"replicates"`
+	// Capped counts the runs stopped at the case budget; their weeks bound the truth from
+	// below only, and an upper end that falls among them is null.
+	Capped         int     `json:"capped"`
+	ImportsPerWeek float64 `json:"imports_per_week"`
+	// DelayCases counts the cases with an onset and a report date that gave the reporting
+	// delay; below 20 none was used and every onset up to the analysis date is taken to be
+	// listed.
+	DelayCases int `json:"delay_cases"`
+}
+
+// ForecastWeek is one week's predictive distribution: the median and the central 50% and
+// 90% prediction intervals of the cases with onset in it (null where unknown).
+type ForecastWeek struct {
+	WeekStart linelist.Day `json:"week_start"`
+	Mean      *float64     `json:"mean"`
+	Median    *int         `json:"median"`
+	P50       [2]*int      `json:"p50"`
+	P90       [2]*int      `json:"p90"`
 }
 
 // EndOfOutbreak is the probability that no further case follows, day by day

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"runtime"
 	"slices"
 	"sync"
@@ -45,6 +46,10 @@ type Options struct {
 	// MaxCases stops a simulation that has made this many new cases (0: DefaultMaxCases);
 	// its counts then bound the truth from below only.
 	MaxCases int
+	// Delay is the distribution of the days from onset to report, Delay[d] = P(delay = d);
+	// nil when every case with onset up to AsOf is in the list. With it, a case's
+	// infectees are in the list only once they are reported (see Elapsed).
+	Delay []float64
 }
 
 // MaxWeeks caps Options.Weeks.
@@ -76,14 +81,15 @@ type Result struct {
 var ErrNoNuPosterior = errors.New("forecast: the offspring model has no individual reproduction number to condition")
 
 // Forecast simulates the branching process forward in calendar time. Each known case with
-// onset t_i has had the share F_i = F(AsOf − t_i + ½) of its serial interval observed (an
-// infectee's onset is its infector's plus the serial interval rounded to the day, so those
-// with X ≤ AsOf − t_i + ½ are already in the list); given the o_i people it has infected,
+// onset t_i has the share F_i of its infectees in the list: F(AsOf − t_i + ½) without a
+// reporting delay (an infectee's onset is its infector's plus the serial interval rounded
+// to the day, so those with X ≤ AsOf − t_i + ½ have had theirs), and with one the share
+// also reported by AsOf (Elapsed); given the o_i people it has infected,
 // its reproduction number ν_i is drawn from its posterior (for the negative binomial gamma
 // with shape k + o_i and rate k/R + F_i, the gamma–Poisson conjugacy: Gelman et al.,
 // Bayesian Data Analysis, 3rd ed., 2013, §2.6), so a case that has infected many keeps
 // infecting; it infects Poisson(ν_i(1 − F_i)) more people, each with onset t_i + round(X),
-// X drawn from the serial interval given X > AsOf − t_i + ½ (by inversion of F). Every new
+// X drawn from the serial interval given that the infectee is not yet listed. Every new
 // case draws ν from the prior, Gamma(k, mean R), infects Poisson(ν) people after
 // round(X) days, and so on until onsets pass the last forecast week. This is the
 // Bienaymé–Galton–Watson process of the fitted model run in calendar time; the intervals
@@ -125,6 +131,11 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 	if maxCases <= 0 {
 		maxCases = DefaultMaxCases
 	}
+	delayCDF, err := cumulative(o.Delay)
+	if err != nil {
+		return nil, err
+	}
+	days := newDayTable(o.Serial)
 	first := o.AsOf.ISOWeekStart() + 7
 	last := first + linelist.Day(7*o.Weeks) - 1 // the last Sunday
 	// The known cases that may still infect someone with onset up to the last Sunday,
@@ -142,13 +153,12 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 		if !(c.Offspring >= 0) || math.IsInf(c.Offspring, 0) {
 			return nil, fmt.Errorf("forecast: a case has %v offspring", c.Offspring)
 		}
-		f := o.Serial.CDF(float64(o.AsOf-c.Onset) + 0.5)
+		f := days.elapsed(int(o.AsOf-c.Onset), delayCDF)
 		if 1-f < 1e-12 {
 			continue // its serial interval has run out: nothing more to come
 		}
 		seeds = append(seeds, seed{c.Onset, c.Offspring, f})
 	}
-	days := newDayTable(o.Serial)
 	total := len(models) * o.PerModel
 	counts := make([][]int, total)
 	capped := make([]bool, total)
@@ -188,8 +198,9 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 				for _, sd := range seeds {
 					nu := m.post.PosteriorSample(rng, m.r, sd.off, sd.f)
 					n := numeric.Poisson(rng, nu*(1-sd.f))
+					lag := int(o.AsOf - sd.onset)
 					for range n {
-						if ok = add(sd.onset + days.draw(sd.f+rng.Float64()*(1-sd.f))); !ok {
+						if ok = add(sd.onset + days.drawUnseen(rng, lag, sd.f, delayCDF)); !ok {
 							break
 						}
 					}
@@ -295,9 +306,100 @@ func newDayTable(si timing.SerialInterval) dayTable {
 }
 
 func (t dayTable) draw(u float64) linelist.Day {
-	if d, ok := slices.BinarySearch(t.cum, u); d < len(t.cum) {
-		_ = ok
+	if d, _ := slices.BinarySearch(t.cum, u); d < len(t.cum) {
 		return linelist.Day(d)
 	}
 	return linelist.Day(math.Round(t.serial.Quantile(u)))
+}
+
+// mass is P(round(X) = d).
+func (t dayTable) mass(d int) float64 {
+	switch {
+	case d < 0 || d >= len(t.cum):
+		return 0
+	case d == 0:
+		return t.cum[0]
+	}
+	return t.cum[d] - t.cum[d-1]
+}
+
+// elapsed is the share of a case's infectees already in the list lag days after its onset:
+// without a reporting delay P(round(X) ≤ lag) = F(lag + ½); with one, an infectee with onset
+// after round(X) days is listed once its delay D has passed too, so the share is
+// Σ_d P(round(X) = d)·P(D ≤ lag − d), the convolution of the two (delayCDF[j] = P(D ≤ j)).
+func (t dayTable) elapsed(lag int, delayCDF []float64) float64 {
+	if lag < 0 {
+		return 0
+	}
+	if delayCDF == nil {
+		if lag < len(t.cum) {
+			return t.cum[lag]
+		}
+		return t.serial.CDF(float64(lag) + 0.5)
+	}
+	var sum numeric.Sum
+	for d := 0; d <= lag && d < len(t.cum); d++ {
+		j := min(lag-d, len(delayCDF)-1)
+		sum.Add(t.mass(d) * delayCDF[j])
+	}
+	return math.Min(1, sum.Value())
+}
+
+// drawUnseen draws the serial interval, in days, of an infectee not yet in the list lag
+// days after its infector's onset, f being elapsed(lag): without a delay by inversion of
+// the distribution above lag; with one by rejection (draw the interval and the delay, keep
+// them when the report falls after the analysis date), which ends quickly because an unseen
+// infectee is drawn only with probability 1 − f; after maxTries the delay is ignored.
+func (t dayTable) drawUnseen(rng *rand.Rand, lag int, f float64, delayCDF []float64) linelist.Day {
+	if delayCDF != nil {
+		for range maxTries {
+			d := t.draw(rng.Float64())
+			if int(d) > lag {
+				return d
+			}
+			u := rng.Float64()
+			delay, _ := slices.BinarySearch(delayCDF, u)
+			if int(d)+delay > lag {
+				return d
+			}
+		}
+		f = t.elapsed(lag, nil)
+	}
+	return t.draw(f + rng.Float64()*(1-f))
+}
+
+// maxTries bounds the rejection of drawUnseen.
+const maxTries = 10_000
+
+// cumulative is the running sum of a probability list, checked; nil for nil.
+func cumulative(p []float64) ([]float64, error) {
+	if p == nil {
+		return nil, nil
+	}
+	out := make([]float64, len(p))
+	var sum numeric.Sum
+	for i, v := range p {
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("forecast: delay probability %v at day %d", v, i)
+		}
+		sum.Add(v)
+		out[i] = sum.Value()
+	}
+	if len(out) == 0 || math.Abs(out[len(out)-1]-1) > 1e-9 {
+		return nil, errors.New("forecast: the delay probabilities do not add up to 1")
+	}
+	out[len(out)-1] = 1
+	return out, nil
+}
+
+// Elapsed returns the share of its infectees that a case with onset lag days before the
+// analysis date has in the list (see Options.Delay; delay nil: no reporting delay). The
+// outlook of the chains under way conditions on the same share.
+func Elapsed(serial timing.SerialInterval, delay []float64) (func(lag int) float64, error) {
+	c, err := cumulative(delay)
+	if err != nil {
+		return nil, err
+	}
+	t := newDayTable(serial)
+	return func(lag int) float64 { return t.elapsed(lag, c) }, nil
 }

@@ -3,8 +3,11 @@ package forecast
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/offspring"
@@ -19,11 +22,11 @@ func gammaSerial(mean, sd float64) timing.GammaInterval {
 
 // known cuts a simulated outbreak at the analysis date: the cases with onset up to it, each
 // with the people among them it has infected; and the truth, the cases by week after it.
-func known(recs []simulate.Record, asOf linelist.Day, weeks int) ([]Case, []int) {
+func known(recs []simulate.Record, asOf linelist.Day, weeks, delay int) ([]Case, []int) {
 	idx := map[string]int{}
 	var cases []Case
 	for _, r := range recs {
-		if r.Onset <= asOf {
+		if r.Onset+linelist.Day(delay) <= asOf {
 			idx[r.ID] = len(cases)
 			cases = append(cases, Case{Onset: r.Onset})
 		}
@@ -32,8 +35,10 @@ func known(recs []simulate.Record, asOf linelist.Day, weeks int) ([]Case, []int)
 	truth := make([]int, weeks)
 	for _, r := range recs {
 		if r.Onset <= asOf {
-			if i, ok := idx[r.TrueInfector]; ok {
-				cases[i].Offspring++
+			if _, listed := idx[r.ID]; listed {
+				if i, ok := idx[r.TrueInfector]; ok {
+					cases[i].Offspring++
+				}
 			}
 			continue
 		}
@@ -48,7 +53,7 @@ func known(recs []simulate.Record, asOf linelist.Day, weeks int) ([]Case, []int)
 // true offspring distribution, and counts how often the 50% and 90% intervals of weeks 1 and
 // 2 hold the truth. Outbreaks with fewer than 20 cases in the fortnight before the analysis
 // date are skipped: a forecast of zero for an outbreak already over is right trivially.
-func coverage(t *testing.T, runs int, r, k float64) (in50, in90 [2]int, n int) {
+func coverage(t *testing.T, runs int, r, k float64, delay int) (in50, in90 [2]int, n int) {
 	t.Helper()
 	start := linelist.Day(20000)
 	asOf := start + 45
@@ -61,7 +66,7 @@ func coverage(t *testing.T, runs int, r, k float64) (in50, in90 [2]int, n int) {
 		if err != nil {
 			continue // grew past the cap
 		}
-		cases, truth := known(recs, asOf, 2)
+		cases, truth := known(recs, asOf, 2, delay)
 		recent := 0
 		for _, c := range cases {
 			if c.Onset > asOf-14 {
@@ -71,7 +76,12 @@ func coverage(t *testing.T, runs int, r, k float64) (in50, in90 [2]int, n int) {
 		if recent < 20 {
 			continue
 		}
-		res, err := Forecast(cases, Options{AsOf: asOf, Weeks: 2, Serial: si,
+		var pmf []float64
+		if delay > 0 {
+			pmf = make([]float64, delay+1)
+			pmf[delay] = 1
+		}
+		res, err := Forecast(cases, Options{AsOf: asOf, Weeks: 2, Serial: si, Delay: pmf,
 			Models: []offspring.Distribution{offspring.NegBin{R: r, K: k}}, PerModel: 300, Seed: seed})
 		if err != nil {
 			t.Fatal(err)
@@ -100,20 +110,29 @@ func coverage(t *testing.T, runs int, r, k float64) (in50, in90 [2]int, n int) {
 // nominal + 3 standard errors + 0.05 for the discreteness (common practice for coverage
 // checks). CASEWEAVE_LONG=1 runs more outbreaks over a grid of R and k.
 func TestForecastCoverage(t *testing.T) {
-	grid := []struct{ r, k float64 }{{1.3, 0.5}}
-	runs := 120
+	type cell struct {
+		r, k  float64
+		delay int // days from onset to report, the same for every case
+	}
+	grid := []cell{{1.3, 0.5, 0}, {1.3, 0.5, 3}}
+	runs := 100
 	if os.Getenv("CASEWEAVE_LONG") == "1" {
-		grid = []struct{ r, k float64 }{{0.9, 0.1}, {0.9, 0.5}, {0.9, 2}, {1.2, 0.1}, {1.2, 0.5}, {1.2, 2}, {1.6, 0.1}, {1.6, 0.5}, {1.6, 2}}
+		grid = nil
+		for _, r := range []float64{0.9, 1.2, 1.6} {
+			for _, k := range []float64{0.1, 0.5, 2} {
+				grid = append(grid, cell{r, k, 0}, cell{r, k, 3})
+			}
+		}
 		runs = 300
 	}
 	for _, g := range grid {
-		in50, in90, n := coverage(t, runs, g.r, g.k)
+		in50, in90, n := coverage(t, runs, g.r, g.k, g.delay)
 		if n < runs/2 {
 			t.Fatalf("R %v k %v: only %d usable outbreaks", g.r, g.k, n)
 		}
 		for w := range 2 {
 			c50, c90 := float64(in50[w])/float64(n), float64(in90[w])/float64(n)
-			t.Logf("R %v k %v week %d: %d outbreaks, 50%% interval covers %.3f, 90%% covers %.3f", g.r, g.k, w+1, n, c50, c90)
+			t.Logf("R %v k %v delay %d week %d: %d outbreaks, 50%% interval covers %.3f, 90%% covers %.3f", g.r, g.k, g.delay, w+1, n, c50, c90)
 			for _, c := range []struct {
 				nominal, got float64
 			}{{0.5, c50}, {0.9, c90}} {
@@ -198,5 +217,35 @@ func TestForecastRejectsWhatItCannotUse(t *testing.T) {
 		if _, err := Forecast(c.cases, c.o(good)); err == nil {
 			t.Errorf("%s: accepted", name)
 		}
+	}
+}
+
+// The share of a case's infectees in the list, with a reporting delay, checked by Monte
+// Carlo: draw the serial interval (gonum's gamma sampler, rounded) and the delay, and count
+// the infectees reported by the analysis date.
+func TestElapsedWithDelayByMonteCarlo(t *testing.T) {
+	si := gammaSerial(5, 2.5)
+	delay := []float64{0.2, 0.5, 0.2, 0.1}
+	elapsed, err := Elapsed(si, delay)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := distuv.Gamma{Alpha: si.Shape, Beta: si.Rate, Src: rand.New(rand.NewPCG(5, 6))}
+	d := distuv.NewCategorical(delay, rand.New(rand.NewPCG(7, 8)))
+	const n = 400_000
+	for _, lag := range []int{0, 2, 5, 9, 20} {
+		in := 0
+		for range n {
+			if int(math.Round(g.Rand())+d.Rand()) <= lag {
+				in++
+			}
+		}
+		mc := float64(in) / n
+		if got := elapsed(lag); math.Abs(got-mc) > 4*math.Sqrt(mc*(1-mc)/n)+1e-9 {
+			t.Errorf("lag %d: %.5f, Monte Carlo %.5f", lag, got, mc)
+		}
+	}
+	if _, err := Elapsed(si, []float64{0.5, 0.2}); err == nil {
+		t.Error("a delay distribution adding up to 0.7 accepted")
 	}
 }
