@@ -349,7 +349,6 @@ func (t intervalTable) moments() (mean, variance float64) {
 // produce (underflow), so the optimiser sees a finite, ordered objective.
 const impossiblePenalty = -1e6
 
-
 // logLikImpossible is the log-likelihood with impossiblePenalty standing for each interval
 // the distribution gives no mass, and the number of such intervals: a fit is possible only
 // when there are none. The count, not the size of the total, says so: the total of a large
