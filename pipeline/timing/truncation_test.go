@@ -83,8 +83,8 @@ func TestTruncatedFitUnbiased(t *testing.T) {
 }
 
 // TestTruncationOnlyAddsTheConditioning: with every bound far beyond every interval the
-// conditioning term is log 1 = 0, so the fit is the plain one; and the bounds must match the
-// intervals one to one.
+// conditioning term is log 1 = 0, so the fit is the plain one; a bound below its interval
+// counts as the interval; and the bounds must match the intervals one to one.
 func TestTruncationOnlyAddsTheConditioning(t *testing.T) {
 	iv := []int{2, 3, 3, 4, 5, 5, 6, 7, 9, 4, 3, 5}
 	far := make([]int, len(iv))
@@ -102,6 +102,25 @@ func TestTruncationOnlyAddsTheConditioning(t *testing.T) {
 	for i := range a.Models {
 		if math.Abs(a.Models[i].Mean-b.Models[i].Mean) > 1e-9 || math.Abs(a.Models[i].LogLik-b.Models[i].LogLik) > 1e-9 {
 			t.Errorf("%s: plain %+v, far bounds %+v", a.Models[i].Name, a.Models[i], b.Models[i])
+		}
+	}
+	// A bound below its interval (the infectee's onset after the analysis date) counts as
+	// the interval itself: the link was observed, so the conditioning cannot exclude it.
+	at, below := make([]int, len(iv)), make([]int, len(iv))
+	for i, d := range iv {
+		at[i], below[i] = d, d-3
+	}
+	c, err := FitSerialInterval(iv, FitOptions{Truncation: at})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := FitSerialInterval(iv, FitOptions{Truncation: below})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range c.Models {
+		if c.Models[i].Mean != d.Models[i].Mean || c.Models[i].LogLik != d.Models[i].LogLik {
+			t.Errorf("%s: bounds at the intervals %+v, below them %+v", c.Models[i].Name, c.Models[i], d.Models[i])
 		}
 	}
 	if _, err := FitSerialInterval(iv, FitOptions{Truncation: far[:3]}); err == nil {
