@@ -576,13 +576,13 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 		go func(w int) {
 			defer wg.Done()
 			draws := make([]int, len(tab.pc))
+			rep := intervalTable{values: tab.values, counts: make([]int, len(tab.values)), n: tab.n, bounds: tab.bounds,
+				bcounts: make([]int, len(tab.bounds))}
 			for i := w; i < b; i += workers {
 				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))
 				numeric.Multinomial(r, tab.n, cond, draws)
-				rep := intervalTable{values: tab.values, counts: make([]int, len(tab.values)), n: tab.n, bounds: tab.bounds}
-				if len(tab.bounds) > 0 {
-					rep.bcounts = make([]int, len(tab.bounds))
-				}
+				clear(rep.counts)
+				clear(rep.bcounts)
 				for j, c := range draws {
 					rep.counts[tab.pv[j]] += c
 					if tab.pb[j] >= 0 {
