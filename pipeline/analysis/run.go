@@ -292,10 +292,11 @@ const (
 )
 
 func (a *run) serialInterval() {
-	var intervals []int
+	var intervals, bounds []int
 	for _, i := range a.selected {
 		if j := a.f.Infector[i]; j != forest.None {
 			intervals = append(intervals, int(a.cases[i].Onset-a.cases[j].Onset))
+			bounds = append(bounds, int(a.o.AsOf-a.cases[j].Onset)) // right truncation at the analysis date
 		}
 	}
 	if a.o.SerialFixed != nil {
@@ -321,7 +322,7 @@ func (a *run) serialInterval() {
 		return
 	}
 	fit, err := timing.FitSerialInterval(intervals, timing.FitOptions{
-		Bootstrap: serialBootstrap, Level: a.o.Level, Workers: a.o.Workers, Rand: a.rng(streamSerial),
+		Bootstrap: serialBootstrap, Level: a.o.Level, Workers: a.o.Workers, Rand: a.rng(streamSerial), Truncation: bounds,
 	})
 	if err != nil {
 		a.note("No serial interval was fitted: %v.", err)

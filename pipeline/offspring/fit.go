@@ -307,7 +307,6 @@ func nbLogLik(values, counts []int, n, sum, R, k float64) float64 {
 	ll := 0.0
 	running := useRunningSums(values)
 	run, j := 0.0, 0
-	lgk, _ := math.Lgamma(k)
 	for i, x := range values {
 		if counts[i] == 0 {
 			continue
@@ -320,8 +319,7 @@ func nbLogLik(values, counts []int, n, sum, R, k float64) float64 {
 			}
 			lr = run
 		} else {
-			a, _ := math.Lgamma(fx + k)
-			lr = a - lgk
+			lr = numeric.LogPochhammer(k, fx)
 		}
 		lf, _ := math.Lgamma(fx + 1)
 		ll += float64(counts[i]) * (lr - lf)

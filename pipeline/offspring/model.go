@@ -194,11 +194,10 @@ func (d NegBin) LogPMF(x int) float64 {
 		return math.Inf(-1)
 	}
 	fx := float64(x)
-	a, _ := math.Lgamma(fx + d.K)
-	b, _ := math.Lgamma(d.K)
 	c, _ := math.Lgamma(fx + 1)
-	// k·log(k/(k+R)) = −k·log1p(R/k) stays accurate for large k.
-	return a - b - c - d.K*math.Log1p(d.R/d.K) + fx*(math.Log(d.R)-math.Log(d.K+d.R))
+	// k·log(k/(k+R)) = −k·log1p(R/k) stays accurate for large k, and so does the rising
+	// factorial (numeric.LogPochhammer), so the PMF reaches the Poisson limit smoothly.
+	return numeric.LogPochhammer(d.K, fx) - c - d.K*math.Log1p(d.R/d.K) + fx*(math.Log(d.R)-math.Log(d.K+d.R))
 }
 
 // Empirical is an offspring distribution given as a list: P[x] = P(Z = x) for x < len(P),

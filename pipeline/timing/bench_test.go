@@ -123,3 +123,39 @@ func BenchmarkWeeklyR1M(b *testing.B) {
 		}
 	}
 }
+
+// truncatedIntervals gives each of 10⁴ gamma intervals a bound: its infector fell ill
+// uniformly in the 60 days before the analysis date, and intervals beyond the bound are
+// redrawn, so the table has many (interval, bound) pairs.
+func truncatedIntervals() (x, bounds []int) {
+	x = gammaIntervals(10000, 1)
+	rng := rand.New(rand.NewPCG(9, 9))
+	bounds = make([]int, len(x))
+	for i := range x {
+		bounds[i] = rng.IntN(60)
+		for x[i] > bounds[i] {
+			x[i] = rng.IntN(bounds[i] + 1)
+		}
+	}
+	return x, bounds
+}
+
+func BenchmarkFitSerialInterval10kTruncated(b *testing.B) {
+	x, bounds := truncatedIntervals()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := FitSerialInterval(x, FitOptions{Truncation: bounds}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkFitSerialInterval10kTruncatedBootstrap200(b *testing.B) {
+	x, bounds := truncatedIntervals()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := FitSerialInterval(x, FitOptions{Truncation: bounds, Bootstrap: 200, Rand: rand.New(rand.NewPCG(1, 2))}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -21,7 +21,9 @@ type ModelFit struct {
 	Mean   float64
 	SD     float64
 	Params map[string]float64
-	// LogLik is Σ_d n_d·log(F(d + 0.5) − F(max(d − 0.5, 0))) at the maximum.
+	// LogLik is Σ_d n_d·log(F(d + 0.5) − F(max(d − 0.5, 0))) at the maximum, less
+	// Σ_T m_T·log F(T + 0.5) over the links' truncation bounds when FitOptions.Truncation
+	// is set.
 	LogLik float64
 	// AIC = 2·2 − 2·LogLik (two parameters) [Akaike 1974, IEEE Trans Autom Control 19:716].
 	AIC float64
@@ -83,6 +85,13 @@ type FitOptions struct {
 	Workers int
 	// Rand seeds the bootstrap; required when Bootstrap > 0.
 	Rand *rand.Rand
+	// Truncation, when not nil, holds for each interval (same order and length) the largest
+	// interval the data could show: the analysis date minus the infector's onset, in days. A
+	// link whose infectee falls ill after the analysis date is not yet in the line list, so
+	// in a growing outbreak the observed intervals are right-truncated; each one's likelihood
+	// is then conditioned on the interval being at most its bound (see FitSerialInterval).
+	// A bound below its interval (an onset after the analysis date) is raised to it.
+	Truncation []int
 }
 
 // TooFewIntervalsError says the fit had fewer than two usable (non-negative) intervals.
@@ -107,8 +116,23 @@ func (e *TooFewIntervalsError) Error() string {
 // the best family get percentile intervals [Efron & Tibshirani 1993, ch. 13] from B case
 // bootstrap replicates, each a multinomial draw over the table of distinct intervals
 // (numeric.Multinomial), refitted within the best family.
+//
+// With opt.Truncation, interval d with bound T (days from the infector's onset to the
+// analysis date) is observed only if the continuous interval is below T + 0.5 (its onset
+// rounds to a day no later than the analysis date), so its contribution is conditioned on
+// that event [Kalbfleisch & Lawless 1989, J Am Stat Assoc 84:360, the likelihood of
+// right-truncated data; applied to serial intervals by Seaman, Presanis & Jackson 2022,
+// Stat Methods Med Res; both citations recalled from memory]:
+//
+//	log[(F(d + 0.5) − F(max(d − 0.5, 0))) / F(T + 0.5)],
+//
+// for every family and in every bootstrap replicate, which resamples (interval, bound)
+// pairs. LogLik and AIC are then those of this conditional likelihood.
 func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
-	tab, neg := tabulateIntervals(intervals)
+	if opt.Truncation != nil && len(opt.Truncation) != len(intervals) {
+		return SerialFit{}, fmt.Errorf("serial interval: %d truncation bounds for %d intervals", len(opt.Truncation), len(intervals))
+	}
+	tab, neg := tabulateTruncated(intervals, opt.Truncation)
 	out := SerialFit{N: tab.n, Negative: neg, NegativeTreatment: NegativeTreatment}
 	if tab.n < 2 {
 		return out, &TooFewIntervalsError{Usable: tab.n, Negative: neg}
@@ -195,11 +219,65 @@ func FitFamily(name string, intervals []int) (ModelFit, error) {
 	return ModelFit{}, fmt.Errorf("serial interval: unknown family %q (want %s, %s or %s)", name, NameGamma, NameLogNormal, NameWeibull)
 }
 
-// intervalTable is the frequency table of non-negative intervals.
+// intervalTable is the frequency table of non-negative intervals and, for right-truncated
+// data, of their bounds.
 type intervalTable struct {
 	values []int
 	counts []int
 	n      int
+	// bounds are the distinct truncation bounds T (ascending) and bcounts how many links
+	// have each; empty without truncation.
+	bounds  []int
+	bcounts []int
+	// pairs are the distinct (interval, bound) pairs the bootstrap resamples: value index
+	// pv, bound index pb (−1 without truncation) and count pc. Without truncation they are
+	// the values in order, so the replicates are those of the table of intervals.
+	pv, pb, pc []int
+}
+
+// tabulateTruncated is tabulateIntervals with each interval's truncation bound (nil: none).
+func tabulateTruncated(intervals, bounds []int) (intervalTable, int) {
+	t, neg := tabulateIntervals(intervals)
+	if bounds == nil {
+		return t, neg
+	}
+	vi := map[int]int{}
+	for i, v := range t.values {
+		vi[v] = i
+	}
+	type pair struct{ d, b int }
+	pm := map[pair]int{}
+	bm := map[int]int{}
+	for i, d := range intervals {
+		if d < 0 {
+			continue
+		}
+		b := max(bounds[i], d)
+		pm[pair{d, b}]++
+		bm[b]++
+	}
+	for b := range bm {
+		t.bounds = append(t.bounds, b)
+	}
+	sort.Ints(t.bounds)
+	bi := map[int]int{}
+	t.bcounts = make([]int, len(t.bounds))
+	for i, b := range t.bounds {
+		bi[b] = i
+		t.bcounts[i] = bm[b]
+	}
+	ps := make([]pair, 0, len(pm))
+	for p := range pm {
+		ps = append(ps, p)
+	}
+	sort.Slice(ps, func(i, j int) bool { return ps[i].d < ps[j].d || (ps[i].d == ps[j].d && ps[i].b < ps[j].b) })
+	t.pv, t.pb, t.pc = nil, nil, nil
+	for _, p := range ps {
+		t.pv = append(t.pv, vi[p.d])
+		t.pb = append(t.pb, bi[p.b])
+		t.pc = append(t.pc, pm[p])
+	}
+	return t, neg
 }
 
 func tabulateIntervals(intervals []int) (intervalTable, int) {
@@ -221,8 +299,37 @@ func tabulateIntervals(intervals []int) (intervalTable, int) {
 	for i, v := range t.values {
 		t.counts[i] = m[v]
 		t.n += m[v]
+		t.pv, t.pb, t.pc = append(t.pv, i), append(t.pb, -1), append(t.pc, m[v])
 	}
 	return t, neg
+}
+
+// logLikImpossible is the table's log-likelihood under si and the number of links si gives
+// no mass: the interval-censored terms of logLikImpossible, minus log F(T + 0.5) for each
+// link with truncation bound T (FitSerialInterval). F(T + 0.5) ≥ the mass of any interval
+// d ≤ T, so it is 0 only where those links are already counted impossible.
+func (t intervalTable) logLikImpossible(si SerialInterval) (float64, int) {
+	ll, impossible := logLikImpossible(si, t.values, t.counts)
+	if len(t.bounds) == 0 || si.Validate() != nil {
+		return ll, impossible
+	}
+	for i, b := range t.bounds {
+		if t.bcounts[i] == 0 {
+			continue
+		}
+		x := float64(b) + 0.5
+		var lf float64
+		if s := si.Survival(x); s < 0.5 {
+			lf = math.Log1p(-s) // F near 1: log(1 − S) keeps its small digits
+		} else {
+			lf = math.Log(si.CDF(x))
+		}
+		if math.IsInf(lf, 0) || math.IsNaN(lf) {
+			continue
+		}
+		ll -= float64(t.bcounts[i]) * lf
+	}
+	return ll, impossible
 }
 
 func (t intervalTable) moments() (mean, variance float64) {
@@ -241,11 +348,6 @@ func (t intervalTable) moments() (mean, variance float64) {
 // impossiblePenalty replaces log(0) for an observed interval the distribution cannot
 // produce (underflow), so the optimiser sees a finite, ordered objective.
 const impossiblePenalty = -1e6
-
-func logLik(si SerialInterval, values, counts []int) float64 {
-	ll, _ := logLikImpossible(si, values, counts)
-	return ll
-}
 
 // logLikImpossible is the log-likelihood with impossiblePenalty standing for each interval
 // the distribution gives no mass, and the number of such intervals: a fit is possible only
@@ -406,13 +508,14 @@ func clampBox(fam family, th [2]float64) (c [2]float64, dist2 float64) {
 // so the optimiser sees a continuous function on all of ℝ².
 func objective(fam family, tab intervalTable, th [2]float64) float64 {
 	c, d2 := clampBox(fam, th)
-	return -logLik(fam.build(c), tab.values, tab.counts) + 1e4*d2
+	ll, _ := tab.logLikImpossible(fam.build(c))
+	return -ll + 1e4*d2
 }
 
 func fitFamily(fam family, tab intervalTable, start [2]float64) (ModelFit, [2]float64, error) {
 	th := minimise(fam, tab, start)
 	si := fam.build(th)
-	ll, impossible := logLikImpossible(si, tab.values, tab.counts)
+	ll, impossible := tab.logLikImpossible(si)
 	mf := ModelFit{
 		Name: fam.name, Mean: si.Mean(), SD: si.SD(), Params: si.Params(),
 		LogLik: ll, AIC: 2*2 - 2*ll, Dist: si,
@@ -466,17 +569,26 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 	mean := make([]float64, b)
 	p95 := make([]float64, b)
 	ok := make([]bool, b)
-	cond := numeric.ConditionalShares(tab.counts)
+	cond := numeric.ConditionalShares(tab.pc)
 	var wg sync.WaitGroup
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func(w int) {
 			defer wg.Done()
-			counts := make([]int, len(tab.counts))
+			draws := make([]int, len(tab.pc))
+			rep := intervalTable{values: tab.values, counts: make([]int, len(tab.values)), n: tab.n, bounds: tab.bounds,
+				bcounts: make([]int, len(tab.bounds))}
 			for i := w; i < b; i += workers {
 				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))
-				numeric.Multinomial(r, tab.n, cond, counts)
-				rep := intervalTable{values: tab.values, counts: counts, n: tab.n}
+				numeric.Multinomial(r, tab.n, cond, draws)
+				clear(rep.counts)
+				clear(rep.bcounts)
+				for j, c := range draws {
+					rep.counts[tab.pv[j]] += c
+					if tab.pb[j] >= 0 {
+						rep.bcounts[tab.pb[j]] += c
+					}
+				}
 				// A replicate's optimum lies near the full-data one, where Newton steps with
 				// backtracking converge in a few iterations; the full Nelder–Mead search is
 				// the fallback when Newton cannot move (curvature not positive there).
