@@ -331,7 +331,8 @@ func (a *run) serialInterval() {
 	a.serial = fit.Best
 	si := &SerialInterval{
 		N: fit.N, Negative: fit.Negative, NegativeTreatment: fit.NegativeTreatment, BestModel: fit.BestModel,
-		Quantiles: SerialQuantiles{P50: fit.Quantiles.P50, P95: fit.Quantiles.P95, P99: fit.Quantiles.P99},
+		Quantiles:           SerialQuantiles{P50: fit.Quantiles.P50, P95: fit.Quantiles.P95, P99: fit.Quantiles.P99},
+		TruncationCorrected: bounds != nil,
 	}
 	for _, m := range fit.Models {
 		si.Models = append(si.Models, SerialModel{Name: m.Name, Mean: m.Mean, SD: m.SD, Params: m.Params, LogLik: m.LogLik, AIC: m.AIC})

@@ -319,6 +319,9 @@ type SerialInterval struct {
 	MeanCI            [2]*float64          `json:"mean_ci"`
 	Histogram         []SerialHistogramBin `json:"histogram"`
 	Density           []CurvePoint         `json:"density"` // best model's density on a grid (x days, y density)
+	// TruncationCorrected is set when the fit conditioned each link on the interval being at
+	// most the days from its infector's onset to the analysis date (right truncation).
+	TruncationCorrected bool `json:"truncation_corrected"`
 }
 
 // SerialModel is one fitted serial-interval family.
