@@ -23,20 +23,28 @@ func init() {
 func (st *renderState) chartOffspring(o *analysis.Offspring) ([]chartSpec, string, error) {
 	id := st.newChartID("offspring")
 	f := &finite{}
-	labels := make([]string, len(o.Histogram))
-	obs := make([]opts.BarData, len(o.Histogram))
-	for i, c := range o.Histogram {
-		labels[i] = strconv.Itoa(i)
-		obs[i] = opts.BarData{Value: c}
+	bins := offspringBins(len(o.Histogram))
+	hist := make([]int, len(bins))
+	labels := make([]string, len(bins))
+	obs := make([]opts.BarData, len(bins))
+	for b, r := range bins {
+		for x := r[0]; x <= r[1]; x++ {
+			hist[b] += o.Histogram[x]
+		}
+		labels[b] = strconv.Itoa(r[0])
+		if r[1] > r[0] {
+			labels[b] += "–" + strconv.Itoa(r[1])
+		}
+		obs[b] = opts.BarData{Value: hist[b]}
 	}
-	logScale := st.offspringLogScale(o.Histogram)
+	logScale := st.offspringLogScale(hist)
 	ya := yAxis("value", "Cases")
 	if logScale {
 		// Counts from 1 up; a model's expectation below a tenth of a case is not drawn.
 		ya.Type, ya.Min = "log", logFloor
-		for i, c := range o.Histogram {
+		for b, c := range hist {
 			if c == 0 {
-				obs[i] = opts.BarData{Value: "-"}
+				obs[b] = opts.BarData{Value: "-"}
 			}
 		}
 	}
@@ -67,14 +75,18 @@ func (st *renderState) chartOffspring(o *analysis.Offspring) ([]chartSpec, strin
 		}))
 	}
 	for k, m := range o.Models {
-		data := make([]opts.LineData, len(o.Histogram))
-		for i := range data {
-			data[i] = opts.LineData{Value: "-"}
-			if i < len(m.Expected) {
-				v := round(f.v(m.Expected[i], "expected count of "+m.Name), 3)
-				if !logScale || v >= logFloor {
-					data[i] = opts.LineData{Value: v}
-				}
+		data := make([]opts.LineData, len(bins))
+		for b, r := range bins {
+			data[b] = opts.LineData{Value: "-"}
+			if r[0] >= len(m.Expected) {
+				continue
+			}
+			sum := 0.0
+			for x := r[0]; x <= r[1] && x < len(m.Expected); x++ {
+				sum += f.v(m.Expected[x], "expected count of "+m.Name)
+			}
+			if v := round(sum, 3); !logScale || v >= logFloor {
+				data[b] = opts.LineData{Value: v}
 			}
 		}
 		style := modelStyle(m.Name, k)
@@ -91,6 +103,9 @@ func (st *renderState) chartOffspring(o *analysis.Offspring) ([]chartSpec, strin
 	caption := fmt.Sprintf("Bars: number of cases (of %d counted) that infected 0, 1, 2, … others. Lines: counts each fitted model expects.", o.N)
 	if logScale {
 		caption = fmt.Sprintf("Squares: number of cases (of %d counted) that infected 0, 1, 2, … others; none is drawn where no case did. Lines: counts each fitted model expects. The count axis is logarithmic, so that the few cases that infected many stay visible; an expectation below 0.1 cases is not drawn.", o.N)
+	}
+	if len(bins) < len(o.Histogram) {
+		caption += fmt.Sprintf(" Beyond %d, counts are grouped in ranges that double in width.", offspringSingleBars-1)
 	}
 	return one(chartSpec{ID: id, Title: "Offspring distribution with fitted models", Caption: caption, Height: chartHeight, Option: obj}, err)
 }
@@ -140,4 +155,22 @@ func modelStyle(name string, k int) lineStyle {
 	}
 	pal := categoryPalette()
 	return lineStyle{pal[k%len(pal)], "solid", "diamond"}
+}
+
+// offspringSingleBars is how many offspring counts (0, 1, …) the chart draws one by one;
+// beyond them a long tail is grouped in ranges that double in width, so a chart of a case
+// that infected half a million people has some forty bars, not half a million.
+const offspringSingleBars = 31
+
+// offspringBins are the inclusive ranges of offspring counts the chart draws, over counts
+// 0..n−1.
+func offspringBins(n int) [][2]int {
+	var out [][2]int
+	for x := 0; x < n && x < offspringSingleBars; x++ {
+		out = append(out, [2]int{x, x})
+	}
+	for lo, w := offspringSingleBars, offspringSingleBars+1; lo < n; lo, w = lo+w, 2*w {
+		out = append(out, [2]int{lo, min(lo+w-1, n-1)})
+	}
+	return out
 }

@@ -240,3 +240,27 @@ func TestCategoryColours(t *testing.T) {
 		t.Errorf("a colour that is not #rrggbb: %v", err)
 	}
 }
+
+// A long tail is grouped: every count in exactly one range, singles up to 30, then ranges
+// doubling in width, so half a million counts need some forty bars.
+func TestOffspringBins(t *testing.T) {
+	for _, n := range []int{1, 5, 31, 32, 100, 500_001} {
+		bins := offspringBins(n)
+		next := 0
+		for _, b := range bins {
+			if b[0] != next || b[1] < b[0] {
+				t.Fatalf("n %d: range %v after %d", n, b, next-1)
+			}
+			next = b[1] + 1
+		}
+		if next != n {
+			t.Errorf("n %d: ranges end at %d", n, next-1)
+		}
+		if n <= offspringSingleBars && len(bins) != n {
+			t.Errorf("n %d: %d bins, want one per count", n, len(bins))
+		}
+		if len(bins) > 50 {
+			t.Errorf("n %d: %d bins", n, len(bins))
+		}
+	}
+}
