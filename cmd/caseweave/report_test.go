@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -333,6 +334,19 @@ func TestBatchChainCountsAgree(t *testing.T) {
 	}
 	if total != used {
 		t.Errorf("the reports count %d cases, the line list %d", total, used)
+	}
+	// The index says how many cases each report holds: the same counts, adding up alike.
+	index, err := os.ReadFile(filepath.Join(dir, "index.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	listed := 0
+	for _, m := range regexp.MustCompile(`(\d[\d,]*) cases \(`).FindAllStringSubmatch(string(index), -1) {
+		n, _ := strconv.Atoi(strings.ReplaceAll(m[1], ",", ""))
+		listed += n
+	}
+	if listed != used {
+		t.Errorf("the index lists %d cases over its reports, the line list has %d", listed, used)
 	}
 	shared := 0
 	for _, n := range byRoot {
