@@ -671,7 +671,7 @@ func (a *run) outlook() {
 	} else {
 		for _, g := range pr.Generations {
 			p := Projection{Generation: g.N, PZero: g.PZero, Mean: g.Mean,
-				P50: [2]*int{g.Interval50.Lo, g.Interval50.Hi}, P90: [2]*int{g.Interval90.Lo, g.Interval90.Hi}}
+				P50: [2]*int{g.Interval50.Lo, g.Interval50.Hi}, P90: [2]*int{g.Interval90.Lo, g.Interval90.Hi}, Approximate: g.Approximate}
 			ol.Projection = append(ol.Projection, p)
 		}
 	}

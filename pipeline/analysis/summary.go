@@ -305,6 +305,9 @@ type Projection struct {
 	P50        [2]*int  `json:"p50"`
 	P90        [2]*int  `json:"p90"`
 	PZero      float64  `json:"p_zero"`
+	// Approximate is set when a bound lay beyond the counts the decoding covered and comes
+	// from a gamma distribution with the generation's exact mean and variance.
+	Approximate bool `json:"approximate"`
 }
 
 // SerialInterval is the fitted serial-interval distribution (interval-censored maximum likelihood; package timing).

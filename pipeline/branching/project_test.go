@@ -81,3 +81,38 @@ func TestProjectPointMassAndErrors(t *testing.T) {
 		t.Error("bad replicate accepted")
 	}
 }
+
+// A projection too large to decode still has its intervals: from 800,000 cases with
+// negative-binomial offspring (R 1.5, k 0.5) the next generation is a sum of 800,000
+// independent counts, so by the central limit theorem it is normal with mean a·R and
+// variance a·R(1 + R/k); the gamma approximation's 5% and 95% quantiles must agree with the
+// normal's (mean ∓ 1.6449 SD) to a small share of the SD.
+func TestProjectionBeyondTheDecodedSupport(t *testing.T) {
+	d := offspring.NegBin{R: 1.5, K: 0.5}
+	const a = 800_000
+	pr, err := Project([]offspring.Distribution{d}, a, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := pr.Generations[0]
+	if g.Interval90.Lo == nil || g.Interval90.Hi == nil || g.Interval50.Lo == nil || g.Interval50.Hi == nil {
+		t.Fatalf("generation 1 intervals missing: %+v %+v", g.Interval50, g.Interval90)
+	}
+	mean := a * 1.5
+	sd := math.Sqrt(a * 1.5 * (1 + 1.5/0.5))
+	for _, c := range []struct {
+		got  int
+		want float64
+	}{{*g.Interval90.Lo, mean - 1.6449*sd}, {*g.Interval90.Hi, mean + 1.6449*sd}, {*g.Interval50.Lo, mean - 0.6745*sd}, {*g.Interval50.Hi, mean + 0.6745*sd}} {
+		if math.Abs(float64(c.got)-c.want) > 0.02*sd {
+			t.Errorf("bound %d, normal limit %.0f (SD %.0f)", c.got, c.want, sd)
+		}
+	}
+	t.Logf("support %d, truncated mass %g, approximate %v", g.Support, g.TruncatedMass, g.Approximate)
+	if !g.Approximate {
+		t.Error("a count this large lies beyond the decoded support: the bounds must be marked approximate")
+	}
+	if pr.Generations[1].Interval90.Hi == nil {
+		t.Error("generation 2 has no upper bound")
+	}
+}
