@@ -8,6 +8,7 @@ import (
 	"runtime"
 	"slices"
 	"sort"
+	"strings"
 	"sync"
 )
 
@@ -164,7 +165,11 @@ func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
 		thetas = append(thetas, th)
 	}
 	if len(fits) == 0 {
-		return out, fmt.Errorf("serial interval: no family could be fitted: %v", errs)
+		why := make([]string, len(errs))
+		for i, e := range errs {
+			why[i] = strings.TrimPrefix(e.Error(), "serial interval: ")
+		}
+		return out, fmt.Errorf("serial interval: no family could be fitted (%s)", strings.Join(why, "; "))
 	}
 	best := 0
 	for i := range fits {
