@@ -46,7 +46,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.StringVar(&f.interval, "interval", analysis.IntervalPercentile, "interval that headlines: percentile or bca (both are in the JSON)")
 	fl.StringVar(&f.unit, "unit", analysis.UnitCase, "bootstrap unit: case, or cluster (resample whole transmission chains)")
 	fl.IntVar(&f.generations, "generations", 4, "generations to project")
-	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12)")
+	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12; 0: no forecast)")
 	fl.Float64Var(&f.importsPerWeek, "imports-per-week", 0, "mean number of imported cases a week added to the forecast")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
 	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
@@ -60,8 +60,11 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
 		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
 	}
-	if f.forecastWeeks < 1 || f.forecastWeeks > forecast.MaxWeeks {
-		return o, usageErrorf("--forecast-weeks must be between 1 and %d, got %d", forecast.MaxWeeks, f.forecastWeeks)
+	switch {
+	case f.forecastWeeks == 0:
+		o.ForecastWeeks = analysis.NoForecast
+	case f.forecastWeeks < 0 || f.forecastWeeks > forecast.MaxWeeks:
+		return o, usageErrorf("--forecast-weeks must be between 0 (no forecast) and %d, got %d", forecast.MaxWeeks, f.forecastWeeks)
 	}
 	if !(f.importsPerWeek >= 0) || math.IsInf(f.importsPerWeek, 0) {
 		return o, usageErrorf("--imports-per-week must be a number of at least 0, got %v", f.importsPerWeek)

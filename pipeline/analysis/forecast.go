@@ -10,6 +10,9 @@ import (
 	"github.com/caseweave/caseweave/pipeline/offspring"
 )
 
+// NoForecast as Options.ForecastWeeks leaves the forecast out.
+const NoForecast = -1
+
 const (
 	// DefaultForecastWeeks is how many weeks the forecast covers: a month, the horizon
 	// stakeholders plan over and beyond which a process fitted to the past says little.
@@ -20,14 +23,18 @@ const (
 	forecastReplicates   = 200
 	forecastPerReplicate = 10
 	// forecastCaseBudget bounds the cases all simulations together may make: a large
-	// growing outbreak is simulated fewer times rather than for hours.
-	forecastCaseBudget = 50_000_000
+	// growing outbreak is simulated fewer times rather than for hours (a pilot of
+	// forecastPilot simulations measures the cases one makes). forecastMinSimulations is the
+	// fewest the intervals rest on, whatever the cost.
+	forecastCaseBudget     = 2_000_000
+	forecastPilot          = 40
+	forecastMinSimulations = 200
 )
 
 // forecast fills Summary.Forecast from the report's cases (package forecast), one batch of
 // simulations per bootstrap replicate so that the intervals carry the uncertainty in R and k.
 func (a *run) forecast() {
-	if a.serial == nil || a.boot == nil || len(a.selected) == 0 {
+	if a.o.ForecastWeeks == NoForecast || a.serial == nil || a.boot == nil || len(a.selected) == 0 {
 		return
 	}
 	cases := make([]forecast.Case, 0, len(a.selected))
@@ -47,12 +54,23 @@ func (a *run) forecast() {
 	if len(models) == 0 {
 		models = append(models, a.family.Distribution(a.boot.Estimate))
 	}
-	per := forecastPerReplicate
-	maxCases := forecastCaseBudget / (len(models) * per)
-	res, err := forecast.Forecast(cases, forecast.Options{
-		AsOf: a.o.AsOf, Weeks: a.o.ForecastWeeks, Serial: a.serial, Models: models, PerModel: per, Delay: a.delay(),
-		ImportsPerWeek: a.o.ImportsPerWeek, Seed: a.o.Seed ^ streamForecast, Workers: a.o.Workers, MaxCases: maxCases,
-	})
+	opt := forecast.Options{
+		AsOf: a.o.AsOf, Weeks: a.o.ForecastWeeks, Serial: a.serial, Models: models[:min(forecastPilot, len(models))], PerModel: 1,
+		Delay: a.delay(), ImportsPerWeek: a.o.ImportsPerWeek, Seed: a.o.Seed ^ streamForecast, Workers: a.o.Workers,
+		MaxCases: forecastCaseBudget / forecastMinSimulations,
+	}
+	// The pilot's cost per simulation sets how many the budget allows: all replicates ×
+	// forecastPerReplicate when it can, fewer replicates (never below the minimum) when not.
+	pilot, err := forecast.Forecast(cases, opt)
+	var res *forecast.Result
+	if err == nil {
+		perSim := max(1, pilot.Cases/len(opt.Models))
+		sims := min(len(models)*forecastPerReplicate, max(forecastMinSimulations, forecastCaseBudget/perSim))
+		opt.PerModel = max(1, sims/len(models))
+		opt.Models = models[:min(len(models), max(1, sims/opt.PerModel))]
+		opt.MaxCases = max(opt.MaxCases, forecastCaseBudget/(len(opt.Models)*opt.PerModel))
+		res, err = forecast.Forecast(cases, opt)
+	}
 	if err != nil {
 		if errors.Is(err, forecast.ErrNoNuPosterior) {
 			a.note("No forecast by week: the fitted model gives no individual reproduction number to update from what each case has done so far.")
@@ -61,7 +79,7 @@ func (a *run) forecast() {
 		}
 		return
 	}
-	fc := &Forecast{Simulations: res.Simulations, Replicates: len(models), Capped: res.Capped, ImportsPerWeek: a.o.ImportsPerWeek,
+	fc := &Forecast{Simulations: res.Simulations, Replicates: len(opt.Models), Capped: res.Capped, ImportsPerWeek: a.o.ImportsPerWeek,
 		DelayCases: a.delayCases}
 	for _, w := range res.Weeks {
 		fc.Weeks = append(fc.Weeks, ForecastWeek{WeekStart: w.Start, Mean: numeric.FinitePtr(w.Mean), Median: w.Median, P50: w.P50, P90: w.P90})

@@ -39,8 +39,8 @@ type Options struct {
 	// weights, afresh in every bootstrap replicate.
 	InferMissing bool
 	Generations  int // generations projected (default 4)
-	// ForecastWeeks is how many ISO weeks after the analysis date are forecast (default
-	// DefaultForecastWeeks; at most forecast.MaxWeeks).
+	// ForecastWeeks is how many ISO weeks after the analysis date are forecast (0:
+	// DefaultForecastWeeks; at most forecast.MaxWeeks; NoForecast for none).
 	ForecastWeeks int
 	// ImportsPerWeek adds imported cases to the forecast at this mean weekly rate.
 	ImportsPerWeek float64
@@ -127,7 +127,7 @@ func (o *Options) defaults() error {
 	if o.ForecastWeeks == 0 {
 		o.ForecastWeeks = DefaultForecastWeeks
 	}
-	if o.ForecastWeeks < 1 || o.ForecastWeeks > forecast.MaxWeeks {
+	if o.ForecastWeeks != NoForecast && (o.ForecastWeeks < 1 || o.ForecastWeeks > forecast.MaxWeeks) {
 		return fmt.Errorf("the forecast covers 1 to %d weeks, got %d", forecast.MaxWeeks, o.ForecastWeeks)
 	}
 	if !(o.ImportsPerWeek >= 0) || math.IsInf(o.ImportsPerWeek, 0) {

@@ -45,7 +45,7 @@ func TestMultitypeOneGroupIsSingleType(t *testing.T) {
 
 func TestMultitypeFromAgeGroups(t *testing.T) {
 	cases, _ := outbreak(t, 1.3, 0.5, 200, 11, "2026-03-20")
-	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 100, Seed: 5})
+	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 100, Seed: 5, ForecastWeeks: NoForecast})
 	m := s.Multitype
 	if m == nil || len(m.Groups) != 3 {
 		t.Fatalf("multitype %+v", m)
@@ -106,7 +106,7 @@ func TestPoolGroups(t *testing.T) {
 // targeting needs less effort than random removal.
 func TestControlSummary(t *testing.T) {
 	cases, _ := outbreak(t, 1.6, 0.3, 150, 3, "2026-03-20")
-	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 100, Seed: 5})
+	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 100, Seed: 5, ForecastWeeks: NoForecast})
 	c := s.Control
 	if c == nil || len(c.Strategies) != 3 || c.Efforts[0] != 0 || c.Efforts[len(c.Efforts)-1] != 1 {
 		t.Fatalf("control %+v", c)
@@ -147,7 +147,7 @@ func TestControlSummary(t *testing.T) {
 
 func TestReleaseMultitype(t *testing.T) {
 	cases, _ := outbreak(t, 1.3, 0.5, 200, 11, "2026-03-20")
-	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 50, Seed: 5})
+	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 50, Seed: 5, ForecastWeeks: NoForecast})
 	if s.Multitype == nil {
 		t.Fatal("no multitype")
 	}

@@ -74,6 +74,8 @@ type Result struct {
 	Simulations int
 	// Capped counts the simulations stopped at MaxCases.
 	Capped int
+	// Cases is the number of new cases all simulations made, a measure of their cost.
+	Cases int
 }
 
 // ErrNoNuPosterior: the model cannot condition a case's reproduction number on what it has
@@ -162,6 +164,7 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 	total := len(models) * o.PerModel
 	counts := make([][]int, total)
 	capped := make([]bool, total)
+	sizes := make([]int, total)
 	workers := o.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -227,7 +230,7 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 						}
 					}
 				}
-				counts[s], capped[s] = weeks, !ok
+				counts[s], capped[s], sizes[s] = weeks, !ok, min(made, maxCases)
 			}
 		}()
 	}
@@ -237,10 +240,11 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 	close(next)
 	wg.Wait()
 	res := &Result{Simulations: total}
-	for _, c := range capped {
+	for s, c := range capped {
 		if c {
 			res.Capped++
 		}
+		res.Cases += sizes[s]
 	}
 	col := make([]float64, total)
 	for w := range o.Weeks {
