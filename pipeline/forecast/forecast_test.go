@@ -9,6 +9,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/caseweave/caseweave/pipeline/internal/numerictest"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/caseweave/caseweave/pipeline/simulate"
@@ -110,6 +111,7 @@ func coverage(t *testing.T, runs int, r, k float64, delay int) (in50, in90 [2]in
 // nominal + 3 standard errors + 0.05 for the discreteness (common practice for coverage
 // checks). CASEWEAVE_LONG=1 runs more outbreaks over a grid of R and k.
 func TestForecastCoverage(t *testing.T) {
+	numerictest.SkipUnderRace(t)
 	type cell struct {
 		r, k  float64
 		delay int // days from onset to report, the same for every case

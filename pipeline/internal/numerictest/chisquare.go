@@ -65,3 +65,13 @@ func ChiSquareCheck(t *testing.T, name string, draws []int, pmf func(x int) floa
 
 // From12 is max(0, ⌊mean − 12·sd⌋).
 func From12(mean, sd float64) int { return max(0, int(math.Floor(mean-12*sd))) }
+
+// SkipUnderRace skips a coverage study in a race-detector build: the detector finds nothing
+// in its single-goroutine loops and makes them ten times slower, and .ci/test runs every
+// study again without it (its "coverage studies" step).
+func SkipUnderRace(t *testing.T) {
+	t.Helper()
+	if RaceDetector {
+		t.Skip("coverage study: run without -race (.ci/test's study step does)")
+	}
+}
