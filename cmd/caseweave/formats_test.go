@@ -127,7 +127,8 @@ func TestSeveralFilesOneRun(t *testing.T) {
 }
 
 // The workbook and compression gauntlet. Each hostile input is read by the built program
-// with a 10-second deadline (a hang fails) and its peak resident memory must stay under
+// under a two-minute guard against a hang (not a speed test: the times, logged here, are
+// well under 10 s on an idle two-core machine; BENCHMARKS.md), and its peak resident memory must stay under
 // 500 MB; it ends with exit 1 and a message saying what is wrong, or exit 0 with its rows
 // accounted for. The inputs are generated here, not checked in. The kernel's peak resident
 // size of a child counts the test process's own pages at the moment of exec too, so the
@@ -143,14 +144,14 @@ func TestWorkbookGauntlet(t *testing.T) {
 	}
 	runBin := func(t *testing.T, args ...string) (int, string) {
 		t.Helper()
-		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+		ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 		defer cancel()
 		cmd := exec.CommandContext(ctx, bin, append([]string{"check", "--as-of", "2026-06-01"}, args...)...)
 		start := time.Now()
 		out, err := cmd.CombinedOutput()
 		elapsed := time.Since(start)
 		if ctx.Err() != nil {
-			t.Fatalf("no answer within 10 s: %s", out)
+			t.Fatalf("no answer within two minutes (a hang): %s", out)
 		}
 		code := 0
 		if err != nil {
