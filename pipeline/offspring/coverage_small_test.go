@@ -80,15 +80,15 @@ func runSmallCell(t *testing.T, c smallCell, seed uint64) smallCounts {
 				}
 				return
 			}
-			cc.profR += b2i(covers(r.Bounds, c.R))
-			cc.profK += b2i(covers(k.Bounds, c.K))
-			cc.truncR += b2i(covers(tr.Bounds, c.R))
-			cc.truncK += b2i(covers(tk.Bounds, c.K))
+			cc.profR += b2int(covers(r.Bounds, c.R))
+			cc.profK += b2int(covers(k.Bounds, c.K))
+			cc.truncR += b2int(covers(tr.Bounds, c.R))
+			cc.truncK += b2int(covers(tk.Bounds, c.K))
 			if c.B > 0 {
-				cc.percR += b2i(covers(ivR.Percentile, c.R))
-				cc.percK += b2i(covers(ivK.Percentile, c.K))
-				cc.bcaR += b2i(covers(ivR.BCa, c.R))
-				cc.bcaK += b2i(covers(ivK.BCa, c.K))
+				cc.percR += b2int(covers(ivR.Percentile, c.R))
+				cc.percK += b2int(covers(ivK.Percentile, c.K))
+				cc.bcaR += b2int(covers(ivR.BCa, c.R))
+				cc.bcaK += b2int(covers(ivK.BCa, c.K))
 			}
 		}(d)
 	}
@@ -97,13 +97,6 @@ func runSmallCell(t *testing.T, c smallCell, seed uint64) smallCounts {
 		t.Fatal(firstErr)
 	}
 	return cc
-}
-
-func b2i(b bool) int {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // TestSmallSampleCoverage is the small-sample coverage study of the 95% intervals for R and

@@ -190,3 +190,54 @@ func TestProfilePoissonLimit(t *testing.T) {
 		t.Errorf("R interval %+v not finite around the estimate", r)
 	}
 }
+
+// TestExposedBootstrapMatchesTable: with every share 1 the partly-observed bootstrap draws
+// the same multinomial (or cluster) resamples as the table bootstrap with the same seed, so
+// its replicates and jackknife must equal the table bootstrap's to fitting precision.
+func TestExposedBootstrapMatchesTable(t *testing.T) {
+	tab := readTable(t, "overdispersed")
+	e := FullyObserved(tab)
+	clusters := []FreqTable{{Values: []int{0, 1, 4}, Counts: []int{5, 2, 1}}, {Values: []int{0, 2}, Counts: []int{3, 2}},
+		{Values: []int{0, 7}, Counts: []int{6, 1}}, {Values: []int{1, 3}, Counts: []int{2, 2}}}
+	var ec []Exposed
+	for _, c := range clusters {
+		ec = append(ec, FullyObserved(c))
+	}
+	for _, pair := range [][2]Sample{{{Cases: tab}, {Exposed: &e}}, {{Clusters: clusters}, {ExposedClusters: ec}}} {
+		opts := BootstrapOptions{Replicates: 50, Seed: 11, Workers: 2}
+		want, err1 := Bootstrap(pair[0], opts)
+		got, err2 := Bootstrap(pair[1], opts)
+		if err1 != nil || err2 != nil {
+			t.Fatal(err1, err2)
+		}
+		for b := range want.Replicates {
+			for i := range want.Replicates[b] {
+				if !relClose(got.Replicates[b][i], want.Replicates[b][i], 1e-7) {
+					t.Fatalf("%s replicate %d param %d: %v, table bootstrap %v", want.Method, b, i, got.Replicates[b][i], want.Replicates[b][i])
+				}
+			}
+		}
+		if len(got.Jackknife) != len(want.Jackknife) || !relClose(got.Jackknife[0][ParamK], want.Jackknife[0][ParamK], 1e-7) {
+			t.Errorf("%s jackknife differs", want.Method)
+		}
+	}
+	if _, err := Bootstrap(Sample{Cases: tab, Exposed: &e}, BootstrapOptions{Replicates: 2}); err == nil {
+		t.Error("a sample with two kinds of data was accepted")
+	}
+}
+
+// TestExpectedCountsFullyObserved: with every share 1 the expected counts are n·P(X = x).
+func TestExpectedCountsFullyObserved(t *testing.T) {
+	tab := readTable(t, "mild")
+	d := NegBin{R: 1.3, K: 0.7}
+	got := ExpectedCounts(FullyObserved(tab), NegBinFamily{}, Params{1.3, 0.7}, 5)
+	for x, v := range got {
+		if want := float64(tab.N()) * d.PMF(x); !relClose(v, want, 1e-12) {
+			t.Errorf("x=%d: %v, want %v", x, v, want)
+		}
+	}
+	half := ExpectedCounts(Exposed{Values: []int{0}, Shares: []float64{0.5}, Counts: []int{2}}, GeometricFamily{}, Params{2}, 2)
+	if g := (Geometric{R: 1}); !relClose(half[1], 2*g.PMF(1), 1e-12) {
+		t.Errorf("geometric at share 0.5: %v, want %v", half[1], 2*g.PMF(1))
+	}
+}
