@@ -196,12 +196,7 @@ func (a *run) assess() {
 }
 
 // headlineBounds are the bounds of the interval the run headlines (Settings.Interval).
-func (a *run) headlineBounds(e Estimate) [2]*float64 {
-	if a.o.Interval == IntervalBCa {
-		return e.BCa
-	}
-	return e.Percentile
-}
+func (a *run) headlineBounds(e Estimate) [2]*float64 { return e.Headline(a.o.Interval) }
 
 // countedSpan is the first and last onset of the cases the offspring counts use.
 func (a *run) countedSpan() (first, last linelist.Day) {
