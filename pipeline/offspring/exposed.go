@@ -169,44 +169,66 @@ func (e Exposed) logLik(R, k float64) float64 {
 	return s.Value()
 }
 
-// rHat is the maximum-likelihood R for fixed k: the root in log R of
-// ∂ log L/∂ log R = Σ c·k(x − μ)/(k + μ), which falls as R grows (the log-likelihood is
-// concave in log R), so the root is unique. For k = +Inf it is Σ c x / Σ c F.
+// rHat is the maximum-likelihood R for fixed k: the root in u = log R of
+// g(u) = ∂ log L/∂ log R = Σ c·k(x − μ)/(k + μ), which falls as R grows (the log-likelihood is
+// concave in log R, g'(u) = −Σ c·kμ(x + k)/(k + μ)² < 0), so the root is unique. It is found by
+// Newton's method from log(Σx/ΣF), the root for k = +Inf, falling back to a bracketed Brent
+// search when a step fails to shrink |g|. For k = +Inf it is Σ c x / Σ c F.
 func (e Exposed) rHat(k float64) float64 {
 	sx, sf := e.sums()
 	r0 := sx / sf
 	if sx == 0 || math.IsInf(k, 1) {
 		return r0
 	}
-	g := func(u float64) float64 {
+	score := func(u float64) (g, dg float64) {
 		R := math.Exp(u)
-		s := 0.0
 		for i, x := range e.Values {
-			mu := R * e.Shares[i]
-			s += float64(e.Counts[i]) * (float64(x) - mu) / (k + mu)
+			c, mu := float64(e.Counts[i]), R*e.Shares[i]
+			km := k + mu
+			g += c * k * (float64(x) - mu) / km
+			dg -= c * k * mu * (float64(x) + k) / (km * km)
 		}
-		return s
+		return g, dg
 	}
-	// The score falls in u = log R: step from log(Σx/ΣF) by factors of e until it changes sign.
-	lo, hi := math.Log(r0), math.Log(r0)
-	g0 := g(lo)
-	switch {
-	case g0 == 0:
-		return r0
-	case g0 > 0:
-		for g(hi) > 0 {
+	u := math.Log(r0)
+	g, dg := score(u)
+	for range 50 {
+		if g == 0 || !(dg < 0) {
+			break
+		}
+		step := -g / dg
+		if math.Abs(step) < 1e-12 {
+			return math.Exp(u + step) // converged: the next step is below rounding of the score
+		}
+		g1, dg1 := score(u + step)
+		if !(math.Abs(g1) < math.Abs(g)) {
+			break
+		}
+		u, g, dg = u+step, g1, dg1
+		if math.Abs(step) < 1e-14*math.Max(1, math.Abs(u)) {
+			return math.Exp(u)
+		}
+	}
+	if g == 0 {
+		return math.Exp(u)
+	}
+	// Brent on a bracket found by stepping from u by factors of e until the score changes sign.
+	gs := func(v float64) float64 { g, _ := score(v); return g }
+	lo, hi := u, u
+	if g > 0 {
+		for gs(hi) > 0 {
 			lo, hi = hi, hi+1
 		}
-	default:
-		for g(lo) < 0 {
+	} else {
+		for gs(lo) < 0 {
 			hi, lo = lo, lo-1
 		}
 	}
-	u, err := numeric.Brent(g, lo, hi, 1e-14, 200)
+	v, err := numeric.Brent(gs, lo, hi, 1e-14, 200)
 	if err != nil {
 		return math.NaN()
 	}
-	return math.Exp(u)
+	return math.Exp(v)
 }
 
 // kScore is k²·∂ log L/∂k at (R, k), written without cancellation of large terms:
