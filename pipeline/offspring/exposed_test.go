@@ -2,6 +2,7 @@ package offspring
 
 import (
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -239,5 +240,35 @@ func TestExpectedCountsFullyObserved(t *testing.T) {
 	half := ExpectedCounts(Exposed{Values: []int{0}, Shares: []float64{0.5}, Counts: []int{2}}, GeometricFamily{}, Params{2}, 2)
 	if g := (Geometric{R: 1}); !relClose(half[1], 2*g.PMF(1), 1e-12) {
 		t.Errorf("geometric at share 0.5: %v, want %v", half[1], 2*g.PMF(1))
+	}
+}
+
+// TestProfileIntervalsSmallRandom: on many tiny random tables (2 to 12 cases, counts up to
+// 30, shares in [0.1, 1]) the fit and profile intervals never fail and each interval holds
+// its estimate, a bound 0 or +Inf standing for "not reached".
+func TestProfileIntervalsSmallRandom(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for d := 0; d < 400; d++ {
+		n := 2 + rng.IntN(11)
+		xs, fs := make([]int, n), make([]float64, n)
+		for i := range xs {
+			if rng.IntN(3) > 0 {
+				xs[i] = rng.IntN(31)
+			}
+			fs[i] = 0.1 + 0.9*rng.Float64()
+		}
+		e, _, err := NewExposed(xs, fs, DefaultShareFloor)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, k, err := ProfileIntervals(e, 0.95)
+		if err != nil {
+			t.Fatalf("dataset %d %v %v: %v", d, xs, fs, err)
+		}
+		for _, iv := range []ProfileInterval{r, k} {
+			if math.IsNaN(iv.Bounds[0]) || math.IsNaN(iv.Bounds[1]) || !(iv.Bounds[0] <= iv.Estimate*(1+1e-9) && iv.Estimate <= iv.Bounds[1]*(1+1e-9)) {
+				t.Fatalf("dataset %d %v %v: interval %+v does not hold its estimate", d, xs, fs, iv)
+			}
+		}
 	}
 }
