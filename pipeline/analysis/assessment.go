@@ -137,8 +137,11 @@ func (a *run) assess() {
 	as := &Assessment{Headline: "overall"}
 	if o := s.Offspring; o != nil {
 		as.Overall = ReadR(o.R, a.headlineBounds(o.R), o.N)
-		first, _ := a.countedSpan()
+		first, last := a.countedSpan()
 		as.OverallFrom, as.OverallTo = first.ISOWeekStart(), a.o.AsOf-linelist.Day(a.w)
+		if a.shares != nil {
+			as.OverallTo = last // the truncation-aware fit counts cases up to the share floor
+		}
 	}
 	if len(a.weekSums) > 0 {
 		var n int
@@ -202,7 +205,7 @@ func (a *run) headlineBounds(e Estimate) [2]*float64 { return e.Headline(a.o.Int
 func (a *run) countedSpan() (first, last linelist.Day) {
 	set := false
 	for _, i := range a.selected {
-		if a.censored(i) {
+		if a.leftOut(i) {
 			continue
 		}
 		t := a.cases[i].Onset

@@ -416,7 +416,7 @@ func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
 	var used []int32
 	censored := 0
 	for _, i := range a.selected {
-		if a.shares != nil && a.shares[i] < offspring.DefaultShareFloor || a.shares == nil && a.censored(i) {
+		if a.leftOut(i) {
 			censored++
 			continue
 		}
@@ -424,6 +424,15 @@ func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
 		used = append(used, i)
 	}
 	return offspring.FromMap(m), used, censored
+}
+
+// leftOut reports whether case i is left out of the offspring fit: its observed share is
+// below the floor (truncation-aware likelihood) or it is inside the censoring window.
+func (a *run) leftOut(i int32) bool {
+	if a.shares != nil {
+		return a.shares[i] < offspring.DefaultShareFloor
+	}
+	return a.censored(i)
 }
 
 // observedShares sets a.shares under the truncation-aware likelihood: case i with onset d
