@@ -153,18 +153,18 @@ func (st *renderState) levelText() string {
 
 // intervalName names the headline interval method.
 func (st *renderState) intervalName() string {
-	if st.s.Settings.Interval == "bca" {
+	switch st.s.Settings.Interval {
+	case analysis.IntervalBCa:
 		return "bias-corrected and accelerated (BCa) bootstrap"
+	case analysis.IntervalProfile:
+		return "profile-likelihood (R and k) and percentile bootstrap"
 	}
 	return "percentile bootstrap"
 }
 
 // headline returns the bounds of the interval the run headlines (Settings.Interval).
 func (st *renderState) headline(e analysis.Estimate) [2]*float64 {
-	if st.s.Settings.Interval == "bca" {
-		return e.BCa
-	}
-	return e.Percentile
+	return e.Headline(st.s.Settings.Interval)
 }
 
 // estimateText formats an estimate with its headline interval: "0.80 (95% CI 0.74–0.88)".

@@ -81,10 +81,7 @@ func status(s *analysis.Summary) string {
 	}
 	if o := s.Offspring; o != nil && o.R.Estimate != nil {
 		line += fmt.Sprintf("; R %.2f", *o.R.Estimate)
-		iv := o.R.Percentile
-		if s.Settings.Interval == analysis.IntervalBCa {
-			iv = o.R.BCa
-		}
+		iv := o.R.Headline(s.Settings.Interval)
 		if iv[0] != nil && iv[1] != nil {
 			line += fmt.Sprintf(" (%g%% CI %.2f–%.2f)", 100*s.Settings.Level, *iv[0], *iv[1])
 		}

@@ -33,17 +33,19 @@ type estimateFlags struct {
 	serialFixed    string
 	workers        int
 	infer          bool
+	likelihood     string
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
 	f.inputFlags.register(c)
 	fl := c.Flags()
-	fl.IntVar(&f.censorDays, "censor-days", -1, "leave out of offspring estimation cases with onset fewer than N days before the analysis date (default: the serial interval's 95th percentile, or 14; 0 disables)")
+	fl.IntVar(&f.censorDays, "censor-days", -1, "censoring window: chains with a case fewer than N days before the analysis date count as growing and, with --offspring-likelihood censor, such cases are left out of R and k (default: the serial interval's 95th percentile, or 14; 0 disables)")
+	fl.StringVar(&f.likelihood, "offspring-likelihood", analysis.LikelihoodTruncation, "how recent cases enter R and k: truncation (every case, weighted by the share of its infectees already listed) or censor (cases inside the censoring window left out)")
 	fl.Lookup("censor-days").DefValue = "0" // the default is described above; -1 only marks "not given"
 	fl.IntVar(&f.replicates, "bootstrap", analysis.DefaultReplicates, "bootstrap replicates")
 	fl.Uint64Var(&f.seed, "seed", 1, "random seed: the same input, seed and --as-of give identical output")
 	fl.Float64Var(&f.level, "level", 0.95, "confidence level of the intervals")
-	fl.StringVar(&f.interval, "interval", analysis.IntervalPercentile, "interval that headlines: percentile or bca (both are in the JSON)")
+	fl.StringVar(&f.interval, "interval", analysis.IntervalProfile, "interval that headlines: profile (profile likelihood for R and k, percentile bootstrap for the rest), percentile or bca (all are in the JSON)")
 	fl.StringVar(&f.unit, "unit", analysis.UnitCase, "bootstrap unit: case, or cluster (resample whole transmission chains)")
 	fl.IntVar(&f.generations, "generations", 4, "generations to project")
 	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12; 0: no forecast)")
@@ -59,6 +61,7 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
 		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
+		Likelihood: f.likelihood,
 	}
 	switch {
 	case f.forecastWeeks == 0:
@@ -142,9 +145,10 @@ func newEstimateCmd(e env) *cobra.Command {
 		Use:   "estimate [flags] LINELIST...",
 		Short: "Estimate the offspring distribution (R, k) with bootstrap intervals, and the outlook",
 		Long: `estimate fits Poisson, geometric and negative-binomial offspring distributions to the
-offspring counts of the cases outside the censoring window, by maximum likelihood; picks the
-best by AIC; gives percentile and BCa bootstrap intervals for R, k and the quantities derived
-from them (extinction probability, share of cases causing 80% of transmission); fits R and k
+offspring counts by maximum likelihood, each case's count taken as the share of its infectees
+already listed (or, with --offspring-likelihood censor, only the cases outside the censoring
+window); picks the best by AIC; gives profile-likelihood intervals for R and k and percentile
+and BCa bootstrap intervals for them and the quantities derived from them (extinction probability, share of cases causing 80% of transmission); fits R and k
 from cluster sizes alone; and projects the next generations.`,
 		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
@@ -187,10 +191,7 @@ func fmtCounts(b [2]*int) string {
 }
 
 func fmtInterval(e analysis.Estimate, which string, digits int) string {
-	iv := e.Percentile
-	if which == analysis.IntervalBCa {
-		iv = e.BCa
-	}
+	iv := e.Headline(which)
 	lo, hi := fmtNum(iv[0], digits), fmtNum(iv[1], digits)
 	if iv[1] == nil && iv[0] != nil {
 		hi = "∞"
@@ -212,7 +213,11 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 		printNotes(w, s)
 		return
 	}
-	fmt.Fprintf(w, "\nOffspring counts of %d cases (%d left out as censored): mean %.3f, variance %.3f\n", o.N, o.Censored, o.Mean, o.Variance)
+	if o.Likelihood == analysis.LikelihoodTruncation {
+		fmt.Fprintf(w, "\nOffspring counts of %d cases, each weighted by the share of its infectees already listed (%d left out with a share below %g): mean observed %.3f, variance %.3f\n", o.N, o.Censored, o.ShareFloor, o.Mean, o.Variance)
+	} else {
+		fmt.Fprintf(w, "\nOffspring counts of %d cases (%d left out as censored): mean %.3f, variance %.3f\n", o.N, o.Censored, o.Mean, o.Variance)
+	}
 	fmt.Fprintf(w, "\n  %-18s %8s %8s %12s %10s %8s\n", "model", "R", "k", "log-lik", "AIC", "ΔAIC")
 	for _, m := range o.Models {
 		R, k := "–", "–"
@@ -235,7 +240,11 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 		fmt.Fprintf(w, "  %-18s %8s %8s %12.3f %10.3f %8.3f%s\n", m.Name, R, k, m.LogLik, m.AIC, m.DeltaAIC, best)
 	}
 	lvl := fmt.Sprintf("%g%%", 100*st.Level)
-	fmt.Fprintf(w, "\n%s intervals, %s bootstrap of %d %ss (seed %d):\n", lvl, st.Interval, st.Replicates, st.Unit, s.Seed)
+	if o.IntervalShown == analysis.IntervalProfile {
+		fmt.Fprintf(w, "\n%s intervals, profile likelihood for R and k, percentile bootstrap of %d %ss (seed %d) for the rest:\n", lvl, st.Replicates, st.Unit, s.Seed)
+	} else {
+		fmt.Fprintf(w, "\n%s intervals, %s bootstrap of %d %ss (seed %d):\n", lvl, st.Interval, st.Replicates, st.Unit, s.Seed)
+	}
 	fmt.Fprintf(w, "  R  %s\n", fmtInterval(o.R, st.Interval, 3))
 	if o.PoissonLimit {
 		fmt.Fprintln(w, "  k  no finite estimate: the variance does not exceed the mean (Poisson limit)")

@@ -121,7 +121,7 @@ func TestCensoringWindow(t *testing.T) {
 	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
 	asOf := cases[len(cases)-1].Onset + 3
 	w := 10
-	s := analyse(t, cases, Options{AsOf: asOf, CensorDays: &w, Replicates: 50, Seed: 1})
+	s := analyse(t, cases, Options{AsOf: asOf, CensorDays: &w, Replicates: 50, Seed: 1, Likelihood: LikelihoodCensor})
 	want := 0
 	for _, c := range cases {
 		if int(asOf-c.Onset) < w {

@@ -137,8 +137,11 @@ func (a *run) assess() {
 	as := &Assessment{Headline: "overall"}
 	if o := s.Offspring; o != nil {
 		as.Overall = ReadR(o.R, a.headlineBounds(o.R), o.N)
-		first, _ := a.countedSpan()
+		first, last := a.countedSpan()
 		as.OverallFrom, as.OverallTo = first.ISOWeekStart(), a.o.AsOf-linelist.Day(a.w)
+		if a.shares != nil {
+			as.OverallTo = last // the truncation-aware fit counts cases up to the share floor
+		}
 	}
 	if len(a.weekSums) > 0 {
 		var n int
@@ -196,18 +199,13 @@ func (a *run) assess() {
 }
 
 // headlineBounds are the bounds of the interval the run headlines (Settings.Interval).
-func (a *run) headlineBounds(e Estimate) [2]*float64 {
-	if a.o.Interval == IntervalBCa {
-		return e.BCa
-	}
-	return e.Percentile
-}
+func (a *run) headlineBounds(e Estimate) [2]*float64 { return e.Headline(a.o.Interval) }
 
 // countedSpan is the first and last onset of the cases the offspring counts use.
 func (a *run) countedSpan() (first, last linelist.Day) {
 	set := false
 	for _, i := range a.selected {
-		if a.censored(i) {
+		if a.leftOut(i) {
 			continue
 		}
 		t := a.cases[i].Onset

@@ -35,7 +35,10 @@ func (a *run) cautions() {
 		a.caution(CautionSmallSample, "%s", o.SmallSample)
 	}
 	a.unlinkedCaution()
-	if o := s.Offspring; o != nil && o.Censored > 0 {
+	if o := s.Offspring; o != nil && o.Censored > 0 && o.Likelihood == LikelihoodTruncation {
+		a.caution(CautionCensored, "%s had onset so recently that fewer than %.0f%% of the people they infected are expected in the list yet; they are left out of R and k (they are counted in the outlook). Every other case counts, weighted by the share of its infectees already listed.",
+			countOf(o.Censored, "case"), 100*o.ShareFloor)
+	} else if o != nil && o.Censored > 0 {
 		a.caution(CautionCensored, "%s of the cases had onset in the last %s before the analysis date; the people they infected may not be reported yet, so they are left out of R and k (they are counted in the outlook).",
 			countOf(o.Censored, "case"), countOf(o.CensorDays, "day"))
 	}

@@ -22,7 +22,7 @@ func cautionOf(s *Summary, kind string) (Caution, bool) {
 // --infer-missing, and bounds the bias by their number over the cases counted.
 func TestCautionsComeFromTheData(t *testing.T) {
 	cases, _ := outbreak(t, 0.8, 0.5, 120, 21, "2026-06-15")
-	base := analyse(t, cases, Options{AsOf: day("2026-06-15"), Seed: 2, Replicates: 50})
+	base := analyse(t, cases, Options{AsOf: day("2026-06-15"), Seed: 2, Replicates: 50, Likelihood: LikelihoodCensor})
 	unlinked0 := base.Tree.Roots - base.Tree.Imported
 	removed := 0
 	for i := range cases {
@@ -31,7 +31,7 @@ func TestCautionsComeFromTheData(t *testing.T) {
 			removed++
 		}
 	}
-	s := analyse(t, cases, Options{AsOf: day("2026-06-15"), Seed: 2, Replicates: 50})
+	s := analyse(t, cases, Options{AsOf: day("2026-06-15"), Seed: 2, Replicates: 50, Likelihood: LikelihoodCensor})
 	c, ok := cautionOf(s, CautionUnlinked)
 	if !ok {
 		t.Fatalf("no unlinked caution in %+v", s.Cautions)

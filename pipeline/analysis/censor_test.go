@@ -13,7 +13,7 @@ import (
 func TestDefaultCensorWindowIsP95(t *testing.T) {
 	cases, _ := outbreak(t, 0.9, 0.5, 60, 8, "2026-12-31")
 	asOf := cases[len(cases)-1].Onset + 3
-	s := analyse(t, cases, Options{AsOf: asOf, Replicates: 50, Seed: 1})
+	s := analyse(t, cases, Options{AsOf: asOf, Replicates: 50, Seed: 1, Likelihood: LikelihoodCensor})
 	if s.SerialInterval == nil || s.Settings.CensorDaysSource != "serial_interval_p95" {
 		t.Fatalf("no fitted serial interval behind the window: %+v", s.Settings)
 	}
@@ -64,7 +64,7 @@ func TestClusterCensoringBoundary(t *testing.T) {
 	if atBoundary == 0 {
 		t.Fatal("no cluster on the boundary")
 	}
-	s := analyse(t, cases, Options{AsOf: end, CensorDays: &w, Replicates: 50, Seed: 1})
+	s := analyse(t, cases, Options{AsOf: end, CensorDays: &w, Replicates: 50, Seed: 1, Likelihood: LikelihoodCensor})
 	got := 0
 	for _, sc := range s.Clusters.SizeHistogram {
 		got += sc.Censored

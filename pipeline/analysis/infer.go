@@ -74,19 +74,14 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 	B := a.o.Replicates
 	res := &offspring.BootstrapResult{Method: a.o.Unit, Seed: a.o.Seed, Family: a.family, Replicates: make([]offspring.Params, B)}
 	ks := make([]float64, 0, B)
+	rSum := 0.0 // Σ of the imputed tables' R̂, for the truncation-aware point estimate
 	var assign []int
 	var counts []int32
 	for b := 0; b < B; b++ {
 		rng := a.rng(streamImpute + uint64(b)<<8)
 		assign = a.infer.Sample(rng, assign)
 		counts = a.recount(assign, counts)
-		var sample offspring.Sample
-		if a.o.Unit == UnitCluster {
-			sample.Clusters = a.clusterTablesOf(counts, used)
-		} else {
-			sample.Cases = tableOf(counts, used)
-		}
-		one, err := offspring.Bootstrap(sample, offspring.BootstrapOptions{Replicates: 1, Seed: a.o.Seed + uint64(b) + 1, Workers: 1, Family: a.family})
+		one, err := offspring.Bootstrap(a.offspringSample(counts, used), offspring.BootstrapOptions{Replicates: 1, Seed: a.o.Seed + uint64(b) + 1, Workers: 1, Family: a.family})
 		if err != nil {
 			return nil, err
 		}
@@ -95,6 +90,7 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 		}
 		res.Replicates[b] = one.Replicates[0]
 		ks = append(ks, one.Estimate[offspring.ParamK])
+		rSum += one.Estimate.R()
 		if a.o.Progress != nil {
 			a.o.Progress(b+1, B)
 		}
@@ -105,6 +101,11 @@ func (a *run) imputedBootstrap(used []int32) (*offspring.BootstrapResult, error)
 	}
 	sort.Float64s(ks)
 	res.Estimate = offspring.Params{sum / float64(len(used)), ks[len(ks)/2]}
+	if a.shares != nil {
+		// Under the truncation-aware likelihood the mean count is not R̂: the mean of the
+		// imputed tables' R̂ is (Rubin's combined estimate).
+		res.Estimate[offspring.ParamR] = rSum / float64(B)
+	}
 	res.Unbounded, res.FailedFits = offspring.CountUnbounded(res.Replicates)
 	return res, nil
 }

@@ -27,7 +27,7 @@ type Options struct {
 	Replicates int     // bootstrap replicates B
 	Seed       uint64  // seeds every random draw of the run
 	Level      float64 // confidence level, e.g. 0.95
-	Interval   string  // IntervalPercentile or IntervalBCa: which interval headlines
+	Interval   string  // IntervalProfile, IntervalPercentile or IntervalBCa: which interval headlines
 	Unit       string  // UnitCase or UnitCluster: what the bootstrap resamples
 	Workers    int     // goroutines for the bootstrap (≤ 0: all cores); results do not depend on it
 	// Progress, if set, is called as bootstrap replicates finish.
@@ -51,14 +51,24 @@ type Options struct {
 	// are still counted over every infectee, wherever it lives.
 	Select func(c *linelist.Case) bool
 	Scope  *Scope
+	// Likelihood is how recent cases enter the offspring fit: LikelihoodTruncation (default)
+	// keeps every case with its observed share of infectees (offspring.Exposed),
+	// LikelihoodCensor leaves out the cases inside the censoring window.
+	Likelihood string
 }
 
 // Choices for Options.Interval and Options.Unit.
 const (
 	IntervalPercentile = "percentile"
 	IntervalBCa        = "bca"
-	UnitCase           = "case"
-	UnitCluster        = "cluster"
+	// IntervalProfile is the profile-likelihood interval for R and k (the percentile
+	// bootstrap for every other quantity); the default, chosen by the small-sample coverage
+	// study in VALIDATION.md.
+	IntervalProfile      = "profile"
+	LikelihoodTruncation = "truncation"
+	LikelihoodCensor     = "censor"
+	UnitCase             = "case"
+	UnitCluster          = "cluster"
 )
 
 // Defaults, each with its reason.
@@ -106,10 +116,17 @@ func (o *Options) defaults() error {
 	}
 	switch o.Interval {
 	case "":
-		o.Interval = IntervalPercentile
-	case IntervalPercentile, IntervalBCa:
+		o.Interval = IntervalProfile
+	case IntervalProfile, IntervalPercentile, IntervalBCa:
 	default:
-		return fmt.Errorf("the headline interval must be %q or %q, got %q", IntervalPercentile, IntervalBCa, o.Interval)
+		return fmt.Errorf("the headline interval must be %q, %q or %q, got %q", IntervalProfile, IntervalPercentile, IntervalBCa, o.Interval)
+	}
+	switch o.Likelihood {
+	case "":
+		o.Likelihood = LikelihoodTruncation
+	case LikelihoodTruncation, LikelihoodCensor:
+	default:
+		return fmt.Errorf("the offspring likelihood must be %q or %q, got %q", LikelihoodTruncation, LikelihoodCensor, o.Likelihood)
 	}
 	switch o.Unit {
 	case "":
@@ -210,6 +227,9 @@ type run struct {
 	infer    *timing.Infectors // nil unless missing infectors are inferred
 	expected []float64         // expected inferred offspring per case
 	counts   []int32           // the offspring counts the estimates use
+	// shares[i] is case i's observed share of infectees under the truncation-aware
+	// likelihood (nil under censoring).
+	shares []float64
 	// delayPMF is the reporting delay (delay), delayCases the cases it rests on.
 	delayPMF   []float64
 	delayCases int
@@ -388,13 +408,16 @@ func (a *run) censorWindow() {
 	a.s.Settings.CensorDays = a.w
 }
 
-// offspringTable tabulates the offspring counts of the selected, uncensored cases.
+// offspringTable tabulates the offspring counts of the selected cases the fit uses: under
+// censoring those outside the censoring window (censored counts the others), under the
+// truncation-aware likelihood those whose observed share reaches offspring.DefaultShareFloor
+// (censored counts the others).
 func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
 	m := map[int]int{}
 	var used []int32
 	censored := 0
 	for _, i := range a.selected {
-		if a.censored(i) {
+		if a.leftOut(i) {
 			censored++
 			continue
 		}
@@ -402,6 +425,67 @@ func (a *run) offspringTable() (offspring.FreqTable, []int32, int) {
 		used = append(used, i)
 	}
 	return offspring.FromMap(m), used, censored
+}
+
+// leftOut reports whether case i is left out of the offspring fit: its observed share is
+// below the floor (truncation-aware likelihood) or it is inside the censoring window.
+func (a *run) leftOut(i int32) bool {
+	if a.shares != nil {
+		return a.shares[i] < offspring.DefaultShareFloor
+	}
+	return a.censored(i)
+}
+
+// observedShares sets a.shares under the truncation-aware likelihood: case i with onset d
+// days before the analysis date has the share forecast.Elapsed(d) of its infectees in the
+// list (the serial interval combined with the reporting delay when one is known). Without a
+// serial interval there is no share, and the run falls back to the censoring window.
+func (a *run) observedShares() {
+	if a.o.Likelihood != LikelihoodTruncation {
+		return
+	}
+	if a.serial == nil {
+		a.note("No serial interval is available, so recent cases are left out by the %d-day censoring window instead of being weighted by the share of their infectees already listed.", a.w)
+		return
+	}
+	elapsed, err := forecast.Elapsed(a.serial, a.delay())
+	if err != nil {
+		a.note("The share of each case's infectees already listed could not be computed (%v); recent cases are left out by the %d-day censoring window instead.", err, a.w)
+		return
+	}
+	a.shares = make([]float64, len(a.cases))
+	for _, i := range a.selected {
+		a.shares[i] = elapsed(int(a.o.AsOf - a.cases[i].Onset))
+	}
+}
+
+// exposedOf is the offspring.Exposed table of the given cases' counts and shares.
+func (a *run) exposedOf(counts []int32, cases []int32) offspring.Exposed {
+	xs, fs := make([]int, len(cases)), make([]float64, len(cases))
+	for k, i := range cases {
+		xs[k], fs[k] = int(counts[i]), a.shares[i]
+	}
+	e, _, _ := offspring.NewExposed(xs, fs, 0) // the cases were checked against the floor already
+	return e
+}
+
+// offspringSample is what the bootstrap resamples: the cases or their clusters, with their
+// observed shares under the truncation-aware likelihood.
+func (a *run) offspringSample(counts []int32, used []int32) offspring.Sample {
+	switch {
+	case a.shares != nil && a.o.Unit == UnitCluster:
+		var cs []offspring.Exposed
+		for _, ids := range a.clusterCases(used) {
+			cs = append(cs, a.exposedOf(counts, ids))
+		}
+		return offspring.Sample{ExposedClusters: cs}
+	case a.shares != nil:
+		e := a.exposedOf(counts, used)
+		return offspring.Sample{Exposed: &e}
+	case a.o.Unit == UnitCluster:
+		return offspring.Sample{Clusters: a.clusterTablesOf(counts, used)}
+	}
+	return offspring.Sample{Cases: tableOf(counts, used)}
 }
 
 func (a *run) offspring() {
@@ -412,17 +496,35 @@ func (a *run) offspring() {
 		a.note("%d missing infectors were inferred by Wallinga–Teunis weights (%d cases had no candidate); the offspring table shows one imputed assignment, and every bootstrap replicate draws a fresh one.",
 			a.s.InferredLinks.Inferred, a.s.InferredLinks.NoCandidate)
 	}
+	a.observedShares()
 	t, used, censored := a.offspringTable()
 	o := &Offspring{
 		N: t.N(), Censored: censored, CensorDays: a.w, Mean: t.Mean(), Variance: t.Variance(),
-		Histogram: t.Histogram(), Superspreaders: []string{},
+		Histogram: t.Histogram(), Superspreaders: []string{}, Likelihood: LikelihoodCensor,
+	}
+	if a.shares != nil {
+		o.Likelihood, o.ShareFloor, o.BelowShareFloor = LikelihoodTruncation, offspring.DefaultShareFloor, censored
 	}
 	o.SmallSample = smallSample(o.N)
 	if o.N < 2 {
-		a.note("Only %d case(s) lie outside the %d-day censoring window: too few to estimate the offspring distribution.", o.N, a.w)
+		if a.shares != nil {
+			a.note("Only %d case(s) have at least %g of their infectees' serial interval behind them: too few to estimate the offspring distribution.", o.N, offspring.DefaultShareFloor)
+		} else {
+			a.note("Only %d case(s) lie outside the %d-day censoring window: too few to estimate the offspring distribution.", o.N, a.w)
+		}
 		return
 	}
-	fits, best, err := offspring.FitAll(t)
+	var exposed offspring.Exposed
+	var fits []offspring.ModelFit
+	var best string
+	var err error
+	if a.shares != nil {
+		exposed = a.exposedOf(a.counts, used)
+		fits, best, err = offspring.FitAllExposed(exposed)
+	} else {
+		exposed = offspring.FullyObserved(t)
+		fits, best, err = offspring.FitAll(t)
+	}
 	if err != nil {
 		a.note("The offspring models could not be fitted: %v.", err)
 		return
@@ -439,11 +541,7 @@ func (a *run) offspring() {
 			mf.Parameters = append(mf.Parameters, Parameter{Name: name,
 				Estimate: numeric.FinitePtr(m.Params[j]), SE: numeric.FinitePtr(m.SE[j])})
 		}
-		d := m.Distribution()
-		mf.Expected = make([]float64, len(o.Histogram))
-		for x := range mf.Expected {
-			mf.Expected[x] = float64(o.N) * d.PMF(x)
-		}
+		mf.Expected = offspring.ExpectedCounts(exposed, familyNamed(m.Name), m.Params, len(o.Histogram)-1)
 		o.Models = append(o.Models, mf)
 		if m.Name == a.family.Name() {
 			a.fit = &fits[i]
@@ -460,11 +558,7 @@ func (a *run) offspring() {
 	if a.infer != nil {
 		boot, err = a.imputedBootstrap(used)
 	} else {
-		sample := offspring.Sample{Cases: t}
-		if a.o.Unit == UnitCluster {
-			sample = offspring.Sample{Clusters: a.clusterTablesOf(a.counts, used)}
-		}
-		boot, err = offspring.Bootstrap(sample, offspring.BootstrapOptions{
+		boot, err = offspring.Bootstrap(a.offspringSample(a.counts, used), offspring.BootstrapOptions{
 			Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
 			Family: a.family,
 		})
@@ -479,6 +573,7 @@ func (a *run) offspring() {
 		PoissonLimitShare: float64(boot.Unbounded) / float64(len(boot.Replicates))}
 	o.R = a.interval(offspring.StatR, boot.Estimate.R())
 	o.K = a.interval(offspring.StatK, boot.Estimate[offspring.ParamK])
+	a.profile(o, exposed)
 	o.ReplicatesR = bins(boot.Replicates, offspring.StatR)
 	o.ReplicatesK = bins(boot.Replicates, offspring.StatK)
 
@@ -506,24 +601,29 @@ func (a *run) offspring() {
 	a.s.Offspring = o
 }
 
-// clusterTablesOf gives one frequency table of counts per tree, over the tree's used cases.
-func (a *run) clusterTablesOf(counts []int32, used []int32) []offspring.FreqTable {
-	per := map[int32]map[int]int{}
+// clusterCases groups the used cases by tree, trees in ascending order.
+func (a *run) clusterCases(used []int32) [][]int32 {
+	per := map[int32][]int32{}
 	for _, i := range used {
-		c := a.f.Cluster[i]
-		if per[c] == nil {
-			per[c] = map[int]int{}
-		}
-		per[c][int(counts[i])]++
+		per[a.f.Cluster[i]] = append(per[a.f.Cluster[i]], i)
 	}
 	ids := make([]int32, 0, len(per))
 	for c := range per {
 		ids = append(ids, c)
 	}
 	sort.Slice(ids, func(i, j int) bool { return ids[i] < ids[j] })
-	out := make([]offspring.FreqTable, len(ids))
+	out := make([][]int32, len(ids))
 	for k, c := range ids {
-		out[k] = offspring.FromMap(per[c])
+		out[k] = per[c]
+	}
+	return out
+}
+
+// clusterTablesOf gives one frequency table of counts per tree, over the tree's used cases.
+func (a *run) clusterTablesOf(counts []int32, used []int32) []offspring.FreqTable {
+	var out []offspring.FreqTable
+	for _, ids := range a.clusterCases(used) {
+		out = append(out, tableOf(counts, ids))
 	}
 	return out
 }

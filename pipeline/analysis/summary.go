@@ -149,6 +149,22 @@ type Estimate struct {
 	Estimate   *float64    `json:"estimate"`
 	Percentile [2]*float64 `json:"percentile"`
 	BCa        [2]*float64 `json:"bca"`
+	// Profile is the profile-likelihood interval (R and k only; null bounds elsewhere, and an
+	// upper bound null when unbounded).
+	Profile [2]*float64 `json:"profile"`
+}
+
+// Headline returns the bounds of the named interval (Options.Interval): the profile
+// interval where one was computed (R and k), else the percentile bootstrap interval; BCa
+// when asked for.
+func (e Estimate) Headline(interval string) [2]*float64 {
+	switch {
+	case interval == IntervalBCa:
+		return e.BCa
+	case interval == IntervalProfile && (e.Profile[0] != nil || e.Profile[1] != nil):
+		return e.Profile
+	}
+	return e.Percentile
 }
 
 // Offspring is the offspring-distribution section [Lloyd-Smith et al. 2005; Efron 1987].
@@ -188,6 +204,19 @@ type Offspring struct {
 	// ReplicatesR and ReplicatesK bin the bootstrap replicates for the report's chart.
 	ReplicatesR *Bins `json:"replicates_R,omitempty"`
 	ReplicatesK *Bins `json:"replicates_k,omitempty"`
+
+	// Likelihood is "truncation" (every case, its offspring negative binomial with mean R·F
+	// for its observed share F) or "censor" (cases inside the censoring window left out).
+	Likelihood string `json:"likelihood"`
+	// ShareFloor is the smallest observed share a case needs under the truncation-aware
+	// likelihood; BelowShareFloor counts the cases left out below it (also in Censored).
+	ShareFloor      float64 `json:"share_floor,omitempty"`
+	BelowShareFloor int     `json:"below_share_floor"`
+	// IntervalShown is the interval that headlines R and k ("profile", "percentile" or
+	// "bca"); IntervalCoverage is a sentence on how it covered in the coverage study at
+	// about this number of cases.
+	IntervalShown    string `json:"interval_shown"`
+	IntervalCoverage string `json:"interval_coverage"`
 }
 
 // ModelFit is one offspring model fitted by maximum likelihood, with its parameters in the

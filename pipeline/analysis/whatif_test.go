@@ -18,7 +18,7 @@ func TestMultitypeOneGroupIsSingleType(t *testing.T) {
 		st.AgeGroup = "all ages"
 		cases[i].Strata = &st
 	}
-	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 200, Seed: 5})
+	s := analyse(t, cases, Options{AsOf: day("2026-03-21"), Replicates: 200, Seed: 5, Likelihood: LikelihoodCensor})
 	m := s.Multitype
 	if m == nil || len(m.Groups) != 1 || m.Groups[0] != "all ages" {
 		t.Fatalf("multitype %+v", m)

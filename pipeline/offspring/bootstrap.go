@@ -17,10 +17,14 @@ import (
 
 // Sample is the data a bootstrap resamples: either one frequency table of the offspring
 // counts of all cases (case bootstrap), or one frequency table per cluster (transmission
-// chain), resampled whole (cluster bootstrap). Exactly one of the two must be set.
+// chain), resampled whole (cluster bootstrap); or the same two for cases whose infectees
+// were only partly observed (Exposed, ExposedClusters), refitted by FitExposed. Exactly one
+// must be set.
 type Sample struct {
-	Cases    FreqTable
-	Clusters []FreqTable
+	Cases           FreqTable
+	Clusters        []FreqTable
+	Exposed         *Exposed
+	ExposedClusters []Exposed
 }
 
 // Resampling methods, as reported in BootstrapResult.Method.
@@ -97,9 +101,17 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 	}
 	var plan resamplePlan
 	var err error
+	set := 0
+	for _, b := range []bool{len(sample.Clusters) > 0, len(sample.Cases.Values) > 0, sample.Exposed != nil, len(sample.ExposedClusters) > 0} {
+		set += b2int(b)
+	}
 	switch {
-	case len(sample.Clusters) > 0 && len(sample.Cases.Values) > 0:
-		return nil, errors.New("bootstrap: the sample has both a case table and clusters; set one")
+	case set > 1:
+		return nil, errors.New("bootstrap: the sample has more than one of a case table, clusters and partly observed cases; set one")
+	case sample.Exposed != nil:
+		plan, err = newExposedCasePlan(*sample.Exposed, fam)
+	case len(sample.ExposedClusters) > 0:
+		plan, err = newExposedClusterPlan(sample.ExposedClusters, fam)
 	case len(sample.Clusters) > 0:
 		plan, err = newClusterPlan(sample.Clusters, fam)
 	default:
@@ -148,6 +160,13 @@ func Bootstrap(sample Sample, opts BootstrapOptions) (*BootstrapResult, error) {
 	}
 	res.Unbounded, res.FailedFits = CountUnbounded(res.Replicates)
 	return res, nil
+}
+
+func b2int(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }
 
 // CountUnbounded counts the parameter vectors with an entry at +Inf and, among the others,

@@ -194,3 +194,13 @@ func meanOf(values, counts []int) float64 {
 	}
 	return sum / n
 }
+
+// FamilyNamed returns the family of Families with the given name.
+func FamilyNamed(name string) (Family, bool) {
+	for _, f := range Families() {
+		if f.Name() == name {
+			return f, true
+		}
+	}
+	return nil, false
+}
