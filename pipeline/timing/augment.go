@@ -374,3 +374,40 @@ func (x *Infectors) DailyMassFor(i, j int) float64 {
 	}
 	return 0
 }
+
+// Geweke is the convergence diagnostic of Geweke (1992, in Bayesian Statistics 4, pp.
+// 169–193): z = (ā − b̄)/√(S_a/n_a + S_b/n_b) for the first 10% (a) and last 50% (b) of a
+// trace, each S/n the variance of the segment's mean estimated by batch means (10 batches;
+// Flegal & Jones 2010, Ann Stat 38:1034, for batch means). Near-standard-normal once the
+// chain has forgotten its start; NaN for traces shorter than 100 or constant.
+func Geweke(trace []float64) float64 {
+	n := len(trace)
+	if n < 100 {
+		return math.NaN()
+	}
+	ma, va := batchMeans(trace[:n/10])
+	mb, vb := batchMeans(trace[n-n/2:])
+	if !(va+vb > 0) {
+		return math.NaN()
+	}
+	return (ma - mb) / math.Sqrt(va+vb)
+}
+
+// batchMeans returns a segment's mean and the variance of that mean: the sample variance
+// of 10 batch means over 10.
+func batchMeans(x []float64) (mean, varMean float64) {
+	const batches = 10
+	size := len(x) / batches
+	var m [batches]float64
+	for b := range m {
+		for _, v := range x[b*size : (b+1)*size] {
+			m[b] += v
+		}
+		m[b] /= float64(size)
+		mean += m[b] / batches
+	}
+	for _, v := range m {
+		varMean += (v - mean) * (v - mean)
+	}
+	return mean, varMean / (batches - 1) / batches
+}
