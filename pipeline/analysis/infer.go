@@ -7,8 +7,8 @@ import (
 
 	"github.com/caseweave/caseweave/pipeline/forecast"
 	"github.com/caseweave/caseweave/pipeline/forest"
-	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/internal/numeric"
+	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/offspring"
 	"github.com/caseweave/caseweave/pipeline/timing"
 )
