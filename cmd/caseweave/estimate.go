@@ -33,6 +33,9 @@ type estimateFlags struct {
 	serialFixed    string
 	workers        int
 	infer          bool
+	// inferMethod and inferAscertainment choose how --infer-missing draws the infectors.
+	inferMethod        string
+	inferAscertainment float64
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -49,7 +52,9 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12)")
 	fl.Float64Var(&f.importsPerWeek, "imports-per-week", 0, "mean number of imported cases a week added to the forecast")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
-	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
+	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an inferred infector, one completed tree per bootstrap replicate")
+	fl.StringVar(&f.inferMethod, "infer-method", analysis.InferAugmentation, "how --infer-missing draws infectors: augmentation (onset timing and how many each case infected, keeping superspreading) or wallinga-teunis (onset timing alone)")
+	fl.Float64Var(&f.inferAscertainment, "infer-ascertainment", 1, "share of infectors that are in the line list, in (0, 1]; below 1 the augmentation may give a case an infector outside the list")
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
 
@@ -59,6 +64,13 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
 		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
+		InferMethod: f.inferMethod, InferAscertainment: f.inferAscertainment,
+	}
+	if f.inferMethod != analysis.InferAugmentation && f.inferMethod != analysis.InferWallingaTeunis {
+		return o, usageErrorf("--infer-method must be %s or %s, got %q", analysis.InferAugmentation, analysis.InferWallingaTeunis, f.inferMethod)
+	}
+	if !(f.inferAscertainment > 0 && f.inferAscertainment <= 1) {
+		return o, usageErrorf("--infer-ascertainment must be in (0, 1], got %v", f.inferAscertainment)
 	}
 	if f.forecastWeeks < 1 || f.forecastWeeks > forecast.MaxWeeks {
 		return o, usageErrorf("--forecast-weeks must be between 1 and %d, got %d", forecast.MaxWeeks, f.forecastWeeks)
