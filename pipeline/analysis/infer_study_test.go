@@ -96,14 +96,25 @@ func runStudy(t *testing.T, c studyCell, replicates int) [3]*studyOutcome {
 				gappy[i].InfectorID = ""
 			}
 		}
-		out[0].add(analyse(t, gappy, o), full)
+		ign := analyse(t, gappy, o)
+		out[0].add(ign, full)
+		line := fmt.Sprintf("seed %d, %d cases: complete R %.3f k %.3f; ignored R %.3f k %.3f", seed, len(cases),
+			*full.Offspring.R.Estimate, *full.Offspring.K.Estimate, *ign.Offspring.R.Estimate, *ign.Offspring.K.Estimate)
 		for m, method := range []string{InferWallingaTeunis, InferAugmentation} {
 			oi := o
 			oi.InferMissing, oi.InferMethod = true, method
-			out[m+1].add(analyse(t, gappy, oi), full)
+			s := analyse(t, gappy, oi)
+			out[m+1].add(s, full)
+			l := s.InferredLinks
+			line += fmt.Sprintf("; %s R %s k %s (%.0f%% inferred, stability %.2f)", method, ivText(s.Offspring.R), ivText(s.Offspring.K), 100*l.Share, *l.Stability)
 		}
+		t.Log(line)
 	}
 	return out
+}
+
+func ivText(e Estimate) string {
+	return fmt.Sprintf("%.3f (%.3f–%.3f)", *e.Estimate, *e.Percentile[0], *e.Percentile[1])
 }
 
 var studyMethods = [3]string{"links ignored", "Wallinga–Teunis", "augmentation"}
