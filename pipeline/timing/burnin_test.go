@@ -11,7 +11,7 @@ import (
 
 // gappyOutbreak simulates a finished outbreak (R 0.8, k 0.3, about 2,500 cases) and drops
 // 20% of its links: the Infectors of the unlinked cases and the recorded offspring counts.
-func gappyOutbreak(t *testing.T, seed uint64) (*Infectors, []int32) {
+func gappyOutbreak(t testing.TB, seed uint64) (*Infectors, []int32) {
 	t.Helper()
 	until := linelist.Day(800)
 	recs, err := simulate.Run(simulate.Scenario{R: 0.8, K: 0.3, SerialMean: 5, SerialSD: 2.5, IndexCases: 600,
@@ -120,5 +120,20 @@ func TestGeweke(t *testing.T) {
 	}
 	if z := Geweke(flat[:50]); !math.IsNaN(z) {
 		t.Errorf("Geweke z of 50 draws %v, want NaN", z)
+	}
+}
+
+// BenchmarkAugmentSweep is one sweep of the chain (ν, infectors, R and k) on about 2,500
+// cases with 20% of links missing.
+func BenchmarkAugmentSweep(b *testing.B) {
+	x, rec := gappyOutbreak(b, 11)
+	c, err := x.Augment(rand.New(rand.NewPCG(1, 1)), AugmentOptions{Recorded: rec, BurnIn: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	var dst []int
+	b.ResetTimer()
+	for b.Loop() {
+		dst = c.Next(dst)
 	}
 }
