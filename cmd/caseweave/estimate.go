@@ -36,6 +36,7 @@ type estimateFlags struct {
 	// inferMethod and inferAscertainment choose how --infer-missing draws the infectors.
 	inferMethod        string
 	inferAscertainment float64
+	inferWithin        string
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -54,6 +55,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
 	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an inferred infector, one completed tree per bootstrap replicate")
 	fl.StringVar(&f.inferMethod, "infer-method", analysis.InferAugmentation, "how --infer-missing draws infectors: augmentation (onset timing and how many each case infected, keeping superspreading) or wallinga-teunis (onset timing alone)")
+	fl.StringVar(&f.inferWithin, "infer-within", analysis.InferWithinJurisdiction, "draw inferred infectors from cases of the same jurisdiction, setting, jurisdiction+setting, or all")
 	fl.Float64Var(&f.inferAscertainment, "infer-ascertainment", 1, "share of infectors that are in the line list, in (0, 1]; below 1 the augmentation may give a case an infector outside the list")
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
@@ -64,7 +66,13 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
 		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
-		InferMethod: f.inferMethod, InferAscertainment: f.inferAscertainment,
+		InferMethod: f.inferMethod, InferAscertainment: f.inferAscertainment, InferWithin: f.inferWithin,
+	}
+	switch f.inferWithin {
+	case analysis.InferWithinJurisdiction, analysis.InferWithinSetting, analysis.InferWithinBoth, analysis.InferWithinAll:
+	default:
+		return o, usageErrorf("--infer-within must be %s, %s, %s or %s, got %q", analysis.InferWithinJurisdiction,
+			analysis.InferWithinSetting, analysis.InferWithinBoth, analysis.InferWithinAll, f.inferWithin)
 	}
 	if f.inferMethod != analysis.InferAugmentation && f.inferMethod != analysis.InferWallingaTeunis {
 		return o, usageErrorf("--infer-method must be %s or %s, got %q", analysis.InferAugmentation, analysis.InferWallingaTeunis, f.inferMethod)

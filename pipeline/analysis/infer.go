@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 
 	"github.com/caseweave/caseweave/pipeline/forecast"
 	"github.com/caseweave/caseweave/pipeline/forest"
@@ -20,6 +21,15 @@ const (
 	InferAugmentation = "augmentation"
 	// InferWallingaTeunis draws them from onset timing alone [Wallinga & Teunis 2004].
 	InferWallingaTeunis = "wallinga-teunis"
+)
+
+// Choices for Options.InferWithin: the cases a missing infector is drawn from share the
+// unlinked case's jurisdiction (default), its setting, both, or nothing ("all").
+const (
+	InferWithinJurisdiction = "jurisdiction"
+	InferWithinSetting      = "setting"
+	InferWithinBoth         = "jurisdiction+setting"
+	InferWithinAll          = "all"
 )
 
 // CautionInference is the caution written when inferred links move R or k beyond the
@@ -41,6 +51,14 @@ func (o *Options) inferDefaults() error {
 	default:
 		return fmt.Errorf("the inference method must be %q or %q, got %q", InferAugmentation, InferWallingaTeunis, o.InferMethod)
 	}
+	switch o.InferWithin {
+	case "":
+		o.InferWithin = InferWithinJurisdiction
+	case InferWithinJurisdiction, InferWithinSetting, InferWithinBoth, InferWithinAll:
+	default:
+		return fmt.Errorf("inferred infectors are drawn within %q, %q, %q or %q, got %q",
+			InferWithinJurisdiction, InferWithinSetting, InferWithinBoth, InferWithinAll, o.InferWithin)
+	}
 	if o.InferAscertainment == 0 {
 		o.InferAscertainment = 1
 	}
@@ -51,8 +69,8 @@ func (o *Options) inferDefaults() error {
 }
 
 // inferMissing prepares the candidate infectors of every non-imported case without a
-// recorded infector, restricted to the same jurisdiction and to the serial interval's 99th
-// percentile, with their Wallinga–Teunis weights [Wallinga & Teunis 2004, Am J Epidemiol
+// recorded infector, restricted to the same group (InferWithin) and to the serial interval's
+// 99th percentile, with their Wallinga–Teunis weights [Wallinga & Teunis 2004, Am J Epidemiol
 // 160:509]; with InferAugmentation it also starts the augmentation chain from them.
 func (a *run) inferMissing() {
 	if !a.o.InferMissing {
@@ -70,7 +88,7 @@ func (a *run) inferMissing() {
 	linked := make([]bool, n)
 	nonImported := 0
 	for i := range a.cases {
-		onset[i], group[i], imported[i] = a.cases[i].Onset, a.cases[i].Jurisdiction, a.cases[i].Imported
+		onset[i], group[i], imported[i] = a.cases[i].Onset, a.candidateGroup(i), a.cases[i].Imported
 		linked[i] = a.f.Infector[i] != forest.None
 		if !imported[i] {
 			nonImported++
@@ -107,6 +125,21 @@ func (a *run) inferMissing() {
 			sum.Inferred, sum.NoCandidate)
 	}
 	a.note("The chain-size fit uses the recorded chains only: untraced links split chains, so it sees more and smaller chains than the outbreak had.")
+}
+
+// candidateGroup is case i's key for InferWithin: candidates share it. Both values are
+// quoted, so two different pairs never give one key.
+func (a *run) candidateGroup(i int) string {
+	c := &a.cases[i]
+	switch a.o.InferWithin {
+	case InferWithinSetting:
+		return c.Setting
+	case InferWithinBoth:
+		return strconv.Quote(c.Jurisdiction) + strconv.Quote(c.Setting)
+	case InferWithinAll:
+		return ""
+	}
+	return c.Jurisdiction
 }
 
 // startChain runs the augmentation's burn-in. F_i is forecast.Elapsed at the case's days

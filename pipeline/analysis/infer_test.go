@@ -119,3 +119,32 @@ func TestAugmentationDeterministicAndOutside(t *testing.T) {
 		t.Error("an unknown inference method was accepted")
 	}
 }
+
+// candidateGroup keys cases by the InferWithin choice, and the pair key of "both" is
+// injective ("a", "bc") ≠ ("ab", "c").
+func TestCandidateGroup(t *testing.T) {
+	mk := func(j, s string) linelist.Case {
+		return linelist.Case{Strata: &linelist.Strata{Jurisdiction: j, Setting: s}}
+	}
+	cases := []linelist.Case{mk("North", "home"), mk("South", "home"), mk("a", "bc"), mk("ab", "c")}
+	for _, tc := range []struct {
+		within     string
+		same, diff [2]int
+	}{
+		{InferWithinJurisdiction, [2]int{0, 0}, [2]int{0, 1}},
+		{InferWithinSetting, [2]int{0, 1}, [2]int{0, 2}},
+		{InferWithinBoth, [2]int{1, 1}, [2]int{2, 3}},
+		{InferWithinAll, [2]int{0, 3}, [2]int{-1, -1}},
+	} {
+		a := &run{cases: cases, o: Options{InferWithin: tc.within}}
+		if a.candidateGroup(tc.same[0]) != a.candidateGroup(tc.same[1]) {
+			t.Errorf("%s: cases %d and %d should share a group", tc.within, tc.same[0], tc.same[1])
+		}
+		if tc.diff[0] >= 0 && a.candidateGroup(tc.diff[0]) == a.candidateGroup(tc.diff[1]) {
+			t.Errorf("%s: cases %d and %d should not share a group", tc.within, tc.diff[0], tc.diff[1])
+		}
+	}
+	if err := (&Options{InferWithin: "ward"}).inferDefaults(); err == nil {
+		t.Error("an unknown grouping was accepted")
+	}
+}

@@ -55,6 +55,7 @@ type Options struct {
 	// the share ρ of infectors in the list for the augmentation (0: 1); see infer.go.
 	InferMethod        string
 	InferAscertainment float64
+	InferWithin        string // InferWithinJurisdiction (default), InferWithinSetting, InferWithinBoth or InferWithinAll
 }
 
 // Choices for Options.Interval and Options.Unit.
