@@ -34,6 +34,10 @@ type estimateFlags struct {
 	workers        int
 	infer          bool
 	likelihood     string
+	// inferMethod and inferAscertainment choose how --infer-missing draws the infectors.
+	inferMethod        string
+	inferAscertainment float64
+	inferWithin        string
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -51,7 +55,10 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.IntVar(&f.forecastWeeks, "forecast-weeks", analysis.DefaultForecastWeeks, "ISO weeks after the analysis date to forecast cases for (1 to 12; 0: no forecast)")
 	fl.Float64Var(&f.importsPerWeek, "imports-per-week", 0, "mean number of imported cases a week added to the forecast")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
-	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
+	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an inferred infector, one completed tree per bootstrap replicate")
+	fl.StringVar(&f.inferMethod, "infer-method", analysis.InferAugmentation, "how --infer-missing draws infectors: augmentation (onset timing and how many each case infected, keeping superspreading) or wallinga-teunis (onset timing alone)")
+	fl.StringVar(&f.inferWithin, "infer-within", analysis.InferWithinJurisdiction, "draw inferred infectors from cases of the same jurisdiction, setting, jurisdiction+setting, or all")
+	fl.Float64Var(&f.inferAscertainment, "infer-ascertainment", 1, "share of infectors that are in the line list, in (0, 1]; below 1 the augmentation may give a case an infector outside the list")
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
 
@@ -61,7 +68,20 @@ func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.O
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
 		Interval: f.interval, Unit: f.unit, Workers: f.workers, Generations: f.generations,
 		InferMissing: f.infer, ForecastWeeks: f.forecastWeeks, ImportsPerWeek: f.importsPerWeek,
-		Likelihood: f.likelihood,
+		Likelihood:  f.likelihood,
+		InferMethod: f.inferMethod, InferAscertainment: f.inferAscertainment, InferWithin: f.inferWithin,
+	}
+	switch f.inferWithin {
+	case analysis.InferWithinJurisdiction, analysis.InferWithinSetting, analysis.InferWithinBoth, analysis.InferWithinAll:
+	default:
+		return o, usageErrorf("--infer-within must be %s, %s, %s or %s, got %q", analysis.InferWithinJurisdiction,
+			analysis.InferWithinSetting, analysis.InferWithinBoth, analysis.InferWithinAll, f.inferWithin)
+	}
+	if f.inferMethod != analysis.InferAugmentation && f.inferMethod != analysis.InferWallingaTeunis {
+		return o, usageErrorf("--infer-method must be %s or %s, got %q", analysis.InferAugmentation, analysis.InferWallingaTeunis, f.inferMethod)
+	}
+	if !(f.inferAscertainment > 0 && f.inferAscertainment <= 1) {
+		return o, usageErrorf("--infer-ascertainment must be in (0, 1], got %v", f.inferAscertainment)
 	}
 	switch {
 	case f.forecastWeeks == 0:

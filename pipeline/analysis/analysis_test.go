@@ -53,8 +53,9 @@ func analyse(t *testing.T, cases []linelist.Case, o Options) *Summary {
 }
 
 // Wallinga & Teunis (2004): with 20% of links removed at random, ignoring the gaps biases
-// mean offspring low by about 20%, and Wallinga–Teunis inference brings it back to the
-// complete-data value within sampling error.
+// mean offspring low by about 20%, and inference (here the default, data augmentation
+// started from Wallinga–Teunis weights) brings it back to the complete-data value within
+// sampling error.
 func TestInferMissingRecoversR(t *testing.T) {
 	cases, _ := outbreak(t, 0.8, 0.5, 600, 42, "2027-12-31")
 	zero := 0

@@ -35,8 +35,8 @@ type Options struct {
 	// SerialFixed, if set, is an agreed gamma serial interval (mean, sd in days) used instead
 	// of fitting one.
 	SerialFixed *[2]float64
-	// InferMissing assigns infectors to unlinked, non-imported cases by Wallinga–Teunis
-	// weights, afresh in every bootstrap replicate.
+	// InferMissing assigns infectors to unlinked, non-imported cases by InferMethod, one
+	// completed tree per bootstrap replicate.
 	InferMissing bool
 	Generations  int // generations projected (default 4)
 	// ForecastWeeks is how many ISO weeks after the analysis date are forecast (0:
@@ -55,6 +55,11 @@ type Options struct {
 	// keeps every case with its observed share of infectees (offspring.Exposed),
 	// LikelihoodCensor leaves out the cases inside the censoring window.
 	Likelihood string
+	// InferMethod is InferAugmentation (default) or InferWallingaTeunis, InferAscertainment
+	// the share ρ of infectors in the list for the augmentation (0: 1); see infer.go.
+	InferMethod        string
+	InferAscertainment float64
+	InferWithin        string // InferWithinJurisdiction (default), InferWithinSetting, InferWithinBoth or InferWithinAll
 }
 
 // Choices for Options.Interval and Options.Unit.
@@ -153,6 +158,9 @@ func (o *Options) defaults() error {
 	if o.Generations < 1 || o.Generations > 50 {
 		return fmt.Errorf("projections cover 1 to 50 generations, got %d", o.Generations)
 	}
+	if err := o.inferDefaults(); err != nil {
+		return err
+	}
 	if o.Share == 0 {
 		o.Share = 0.8
 	}
@@ -205,6 +213,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.ageMixing()
 	a.multitype()
 	a.strata()
+	a.inferenceMatters()
 	a.cautions()
 	return s, nil
 }
@@ -225,6 +234,8 @@ type run struct {
 	fit      *offspring.ModelFit   // its fit
 	boot     *offspring.BootstrapResult
 	infer    *timing.Infectors // nil unless missing infectors are inferred
+	chain    *timing.Chain     // the augmentation chain (InferAugmentation), else nil
+	tree0    []int             // its first kept tree
 	expected []float64         // expected inferred offspring per case
 	counts   []int32           // the offspring counts the estimates use
 	// shares[i] is case i's observed share of infectees under the truncation-aware
@@ -492,9 +503,7 @@ func (a *run) offspring() {
 	a.counts = a.f.Offspring
 	if a.infer != nil {
 		// The model table and the empirical views use one imputed assignment, seeded.
-		a.counts = a.recount(a.infer.Sample(a.rng(streamImpute), nil), nil)
-		a.note("%d missing infectors were inferred by Wallinga–Teunis weights (%d cases had no candidate); the offspring table shows one imputed assignment, and every bootstrap replicate draws a fresh one.",
-			a.s.InferredLinks.Inferred, a.s.InferredLinks.NoCandidate)
+		a.counts = a.recount(a.firstTree(), nil)
 	}
 	a.observedShares()
 	t, used, censored := a.offspringTable()
@@ -557,6 +566,7 @@ func (a *run) offspring() {
 	var boot *offspring.BootstrapResult
 	if a.infer != nil {
 		boot, err = a.imputedBootstrap(used)
+		a.recordedEstimates(used)
 	} else {
 		boot, err = offspring.Bootstrap(a.offspringSample(a.counts, used), offspring.BootstrapOptions{
 			Replicates: a.o.Replicates, Seed: a.o.Seed, Workers: a.o.Workers, Progress: a.o.Progress,
@@ -630,7 +640,12 @@ func (a *run) clusterTablesOf(counts []int32, used []int32) []offspring.FreqTabl
 
 // interval builds an Estimate for stat from the bootstrap.
 func (a *run) interval(stat func(offspring.Params) float64, est float64) Estimate {
-	iv, err := a.boot.Interval(stat, est, a.o.Level)
+	return a.intervalFrom(a.boot, stat, est)
+}
+
+// intervalFrom builds an Estimate for stat from boot.
+func (a *run) intervalFrom(boot *offspring.BootstrapResult, stat func(offspring.Params) float64, est float64) Estimate {
+	iv, err := boot.Interval(stat, est, a.o.Level)
 	if err != nil {
 		return Estimate{Estimate: numeric.FinitePtr(est)}
 	}

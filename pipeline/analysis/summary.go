@@ -390,10 +390,34 @@ type WeekR struct {
 	Censored  bool         `json:"censored"`
 }
 
-// InferredLinks counts infectors assigned by Wallinga–Teunis weights.
+// InferredLinks describes the infectors inferred for unlinked, non-imported cases
+// (--infer-missing): how, how many, how stable, and what they changed.
 type InferredLinks struct {
 	Inferred    int `json:"inferred"`
 	NoCandidate int `json:"no_candidate"`
+	// Method is "augmentation" (data augmentation that keeps who spreads, the default) or
+	// "wallinga-teunis" (timing alone).
+	Method string `json:"method"`
+	// Share is Inferred over the non-imported cases: the share whose infector is inferred.
+	Share float64 `json:"share"`
+	// Stability is the mean, over the inferred cases, of the share of completed trees that
+	// give the case its most frequent infector (1: every tree agrees on every link).
+	Stability *float64 `json:"stability"`
+	// Outside is the mean number of cases per completed tree given an infector outside the
+	// list (augmentation with --infer-ascertainment below 1 only).
+	Outside float64 `json:"outside"`
+	// BurnIn is the sweeps the augmentation discarded after its Wallinga–Teunis start, and
+	// BurnInZ Geweke's z comparing the first 10% of the kept trace of k with its last 50%
+	// (|z| > 3 is flagged in the notes).
+	BurnIn  int      `json:"burn_in"`
+	BurnInZ *float64 `json:"burn_in_z"`
+	// RecordedR and RecordedK are the estimates from the recorded links alone, with the same
+	// bootstrap, to set beside Offspring.R and Offspring.K.
+	RecordedR Estimate `json:"recorded_r"`
+	RecordedK Estimate `json:"recorded_k"`
+	// Matters is true when the choice matters: the estimate of R or k with inferred links
+	// lies outside the headline interval of the one without, or the reverse.
+	Matters bool `json:"matters"`
 }
 
 // Forecast is the expected number of cases by ISO week of onset in the weeks after the
