@@ -136,6 +136,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 		st.Counted = nil
 	}
 	releaseWeeks(c)
+	releaseNowcast(c)
 	releaseTrend(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)
