@@ -16,11 +16,11 @@ import (
 // Vell, in three jurisdictions that exist nowhere. Its analysis date is fixed, so the demo's
 // output is the same on every machine and every day.
 const (
-	demoAsOf  = "2026-11-27" // a Friday: the day the week's reports go out
+	demoAsOf = "2026-11-27" // a Friday: the day the week's reports go out
 	// demoDelayMean is the mean of the days from onset to report: the export holds the
 	// cases reported by the analysis date, so the last days' onsets are not all in it.
 	demoDelayMean = 3.0
-	demoStart = "2026-09-07"
+	demoStart     = "2026-09-07"
 	// demoIncubationDays is the invented pathogen's longest incubation period, for the
 	// "twice the longest incubation period" rule of thumb.
 	demoIncubationDays = 14
