@@ -22,7 +22,7 @@ func init() {
 }
 
 // chartNowcast draws the recent weeks of the epidemic curve as the cases listed (grey)
-// with the cases still expected to be reported stacked on them (hatched accent), and the
+// with the cases still expected to be reported stacked on them (pale accent), and the
 // 90% prediction interval of each week's final count as a bar from its lower to its upper
 // end, so that the correction stands apart from what was counted.
 func (st *renderState) chartNowcast(nc *analysis.Nowcast) ([]chartSpec, string, error) {
@@ -72,6 +72,6 @@ func (st *renderState) chartNowcast(nc *analysis.Nowcast) ([]chartSpec, string, 
 	obj, err := finish("nowcast", f, bar, func(obj map[string]any) {
 		obj["legend"] = map[string]any{"top": 0, "left": "center", "data": []string{"Cases listed", "Still to be reported (nowcast)"}}
 	})
-	caption := fmt.Sprintf("Grey: cases in the list by week of onset. Hatched: the cases with onset that week expected to be reported later, from the delay between onset and report in %d cases with both dates, corrected for the reports not yet in. Black marks: the 90%% prediction interval of the week's final count.", nc.DelayCases)
+	caption := fmt.Sprintf("Grey: cases in the list by week of onset. Pale red, stacked on them: the cases with onset that week expected to be reported later, from the delay between onset and report in %d cases with both dates, corrected for the reports not yet in. Black marks: the 90%% prediction interval of the week's final count.", nc.DelayCases)
 	return one(chartSpec{ID: id, Title: "Recent weeks: listed and still to be reported", Caption: caption, Height: chartHeight, Option: obj}, err)
 }

@@ -32,6 +32,7 @@ var sectionTitles = []struct{ name, title string }{
 	{"epicurve", "Cases over time"},
 	{"nowcast", "Recent weeks, corrected for late reports"},
 	{"forecast", "The weeks ahead"},
+	{"backtest", "How past forecasts fared"},
 	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},
 	{"r_and_k", "Reproduction number and spread"},

@@ -228,3 +228,18 @@ func backtestVerdict(hs []HorizonScore) string {
 	return fmt.Sprintf("Over %s %s ahead, the 90%% ranges held the outcome %.0f%% of the time (%s) and the 50%% ranges %.0f%% (%s); the median was off by %.1f cases on average.",
 		countOf(h.Scored, "forecast"), countOf(h.Horizon, "week"), 100**h.Cover90, judge(*h.Cover90, 0.9), 100**h.Cover50, judge(*h.Cover50, 0.5), *h.AbsError)
 }
+
+// releaseBacktest leaves out the scored forecasts whose outcome is a small count (1 to
+// thr − 1); the scores by horizon, which sum over many weeks, stay.
+func releaseBacktest(c *Summary, thr int) {
+	if c.Backtest == nil {
+		return
+	}
+	kept := c.Backtest.Forecasts[:0]
+	for _, f := range c.Backtest.Forecasts {
+		if f.Observed == 0 || f.Observed >= thr {
+			kept = append(kept, f)
+		}
+	}
+	c.Backtest.Forecasts = kept
+}

@@ -137,6 +137,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	}
 	releaseWeeks(c)
 	releaseNowcast(c)
+	releaseBacktest(c, thr)
 	releaseTrend(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)

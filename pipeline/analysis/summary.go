@@ -48,6 +48,10 @@ type Summary struct {
 	// Nowcast is the expected final count of the recent onset days, whose cases are not
 	// all reported yet.
 	Nowcast *Nowcast `json:"nowcast,omitempty"`
+
+	// Backtest scores the forecasts past analysis dates would have made (RunBacktest); set
+	// only when asked for (report --backtest).
+	Backtest *Backtest `json:"backtest,omitempty"`
 }
 
 // Nowcast corrects the last weeks of the epidemic curve for the cases not yet reported: the
