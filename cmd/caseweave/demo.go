@@ -39,6 +39,13 @@ func demoScenario() simulate.Scenario {
 	}
 }
 
+// demoWriteOptions writes the demo's export: contact columns, and the cases reported by the
+// analysis date after a random delay.
+func demoWriteOptions() simulate.WriteOptions {
+	sc := demoScenario()
+	return simulate.WriteOptions{ContactColumns: true, ReportDelayMean: demoDelayMean, DelaySeed: sc.Seed, ReportedBy: sc.Until}
+}
+
 func newDemoCmd(e env) *cobra.Command {
 	var out string
 	var pdf bool
@@ -55,8 +62,7 @@ which the reports never show), and writes one report per jurisdiction plus an in
 				return withCode(exitInput, err)
 			}
 			var buf bytes.Buffer
-			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true,
-				ReportDelayMean: demoDelayMean, DelaySeed: demoScenario().Seed, ReportedBy: demoScenario().Until}); err != nil {
+			if err := simulate.WriteCSV(&buf, recs, demoWriteOptions()); err != nil {
 				return withCode(exitOutput, err)
 			}
 			// The line list is read from a scratch folder and written into the batch, beside
