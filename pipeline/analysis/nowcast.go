@@ -78,7 +78,8 @@ func (a *run) nowcast() {
 }
 
 // releaseNowcast leaves out the nowcast's days, whose counts may be small, and each week
-// whose count the released epidemic curve withholds (its expected count would reveal it).
+// whose count the released epidemic curve withholds (its expected count would reveal it); a
+// week after the curve's last has no case listed, a count that is never withheld.
 func releaseNowcast(c *Summary) {
 	nc := c.Nowcast
 	if nc == nil {
@@ -93,7 +94,7 @@ func releaseNowcast(c *Summary) {
 	}
 	kept := nc.Weeks[:0]
 	for _, w := range nc.Weeks {
-		if n := shown[w.WeekStart]; n != nil && w.Observed != nil && *n == *w.Observed {
+		if n, ok := shown[w.WeekStart]; w.Observed != nil && ((!ok && *w.Observed == 0) || (n != nil && *n == *w.Observed)) {
 			kept = append(kept, w)
 		}
 	}
