@@ -62,8 +62,11 @@ type BacktestWeek struct {
 // 50% and 90% intervals, the mean weighted interval score (forecast.WeightedIntervalScore,
 // from the median and both intervals) and the mean absolute error of the median.
 type HorizonScore struct {
-	Horizon  int      `json:"horizon"`
-	Scored   int      `json:"scored"`
+	Horizon int `json:"horizon"`
+	Scored  int `json:"scored"`
+	// Below counts the scored forecasts whose median fell below the outcome: far from half
+	// of Scored, the forecasts are biased.
+	Below    int      `json:"below"`
 	Cover50  *float64 `json:"cover50"`
 	Cover90  *float64 `json:"cover90"`
 	WIS      *float64 `json:"wis"`
@@ -196,6 +199,9 @@ func scoreHorizon(h int, ws []BacktestWeek) HorizonScore {
 		}
 		wis += forecast.WeightedIntervalScore(float64(*w.Median), []forecast.Interval{i50, i90}, y)
 		ae += math.Abs(y - float64(*w.Median))
+		if float64(*w.Median) < y {
+			hs.Below++
+		}
 		hs.Scored++
 	}
 	if hs.Scored > 0 {
@@ -225,8 +231,8 @@ func backtestVerdict(hs []HorizonScore) string {
 		}
 		return "about right"
 	}
-	return fmt.Sprintf("Over %s %s ahead, the 90%% ranges held the outcome %.0f%% of the time (%s) and the 50%% ranges %.0f%% (%s); the median was off by %.1f cases on average.",
-		countOf(h.Scored, "forecast"), countOf(h.Horizon, "week"), 100**h.Cover90, judge(*h.Cover90, 0.9), 100**h.Cover50, judge(*h.Cover50, 0.5), *h.AbsError)
+	return fmt.Sprintf("Over %s %s ahead, the 90%% ranges held the outcome %.0f%% of the time (%s) and the 50%% ranges %.0f%% (%s); the median was off by %.1f cases on average, and below the outcome %d times of %d.",
+		countOf(h.Scored, "forecast"), countOf(h.Horizon, "week"), 100**h.Cover90, judge(*h.Cover90, 0.9), 100**h.Cover50, judge(*h.Cover50, 0.5), *h.AbsError, h.Below, h.Scored)
 }
 
 // releaseBacktest leaves out the scored forecasts whose outcome is a small count (1 to

@@ -72,15 +72,19 @@ func TestRunBacktest(t *testing.T) {
 	}
 	for _, h := range bt.Horizons {
 		var in90, n float64
+		below := 0
 		for _, f := range bt.Forecasts {
 			if f.Horizon == h.Horizon && f.Median != nil && f.P90[0] != nil {
 				n++
+				if *f.Median < f.Observed {
+					below++
+				}
 				if float64(f.Observed) >= bound(f.P90[0]) && float64(f.Observed) <= bound(f.P90[1]) {
 					in90++
 				}
 			}
 		}
-		if int(n) != h.Scored || (n > 0 && math.Abs(*h.Cover90-in90/n) > 1e-12) {
+		if int(n) != h.Scored || below != h.Below || (n > 0 && math.Abs(*h.Cover90-in90/n) > 1e-12) {
 			t.Errorf("horizon %d: %+v, recount %v of %v", h.Horizon, h, in90, n)
 		}
 	}
