@@ -74,15 +74,19 @@ func truncatedCDF(cases []Reported, asOf linelist.Day) ([]float64, error) {
 		n[d]++
 		byWindow[w][d]++
 	}
-	// R(d) = Σ_{w ≥ d} Σ_{j ≤ d} byWindow[w][j].
+	// R(d) = Σ_{w ≥ d} Σ_{j ≤ d} byWindow[w][j]: byWindow[w] becomes its running sum over
+	// the delay, so that each R(d) is one sum over the windows (O(D²) in all).
+	for w := range byWindow {
+		for j := 1; j <= maxD; j++ {
+			byWindow[w][j] += byWindow[w][j-1]
+		}
+	}
 	cdf := make([]float64, maxD+1)
 	cdf[maxD] = 1
 	for d := maxD; d >= 1; d-- {
 		r := 0
 		for w := d; w <= maxD; w++ {
-			for j := 0; j <= d; j++ {
-				r += byWindow[w][j]
-			}
+			r += byWindow[w][d]
 		}
 		g := 0.0
 		if r > 0 {
