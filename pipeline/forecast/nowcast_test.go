@@ -151,3 +151,22 @@ func TestNowcastRecovers(t *testing.T) {
 		t.Errorf("weeks: %+v", a.Weeks)
 	}
 }
+
+func TestNowcastRejectsWhatItCannotUse(t *testing.T) {
+	rep := []Reported{{0, 1}, {1, 2}}
+	for name, c := range map[string]struct {
+		onsets []linelist.Day
+		rep    []Reported
+		o      NowcastOptions
+	}{
+		"no days":        {nil, rep, NowcastOptions{AsOf: 5}},
+		"future onset":   {[]linelist.Day{6}, rep, NowcastOptions{AsOf: 5, Days: 3}},
+		"no delays":      {[]linelist.Day{1}, nil, NowcastOptions{AsOf: 5, Days: 3}},
+		"late report":    {[]linelist.Day{1}, []Reported{{1, 9}}, NowcastOptions{AsOf: 5, Days: 3}},
+		"report < onset": {[]linelist.Day{1}, []Reported{{3, 2}}, NowcastOptions{AsOf: 5, Days: 3}},
+	} {
+		if _, err := Nowcast(c.onsets, c.rep, c.o); err == nil {
+			t.Errorf("%s: accepted", name)
+		}
+	}
+}
