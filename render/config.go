@@ -30,7 +30,9 @@ const DefaultCaution = "These figures describe the cases that were reported and 
 var sectionTitles = []struct{ name, title string }{
 	{"headline", "At a glance"},
 	{"epicurve", "Cases over time"},
+	{"nowcast", "Recent weeks, corrected for late reports"},
 	{"forecast", "The weeks ahead"},
+	{"backtest", "How past forecasts fared"},
 	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},
 	{"r_and_k", "Reproduction number and spread"},

@@ -40,5 +40,5 @@ func ExampleParseConfig() {
 
 func ExampleChartNames() {
 	fmt.Println(render.ChartNames()[:3])
-	// Output: [epicurve forecast offspring]
+	// Output: [epicurve nowcast forecast]
 }

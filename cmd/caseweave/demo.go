@@ -16,9 +16,11 @@ import (
 // Vell, in three jurisdictions that exist nowhere. Its analysis date is fixed, so the demo's
 // output is the same on every machine and every day.
 const (
-	demoAsOf  = "2026-11-27" // a Friday: the day the week's reports go out
-	demoUntil = "2026-11-25" // the export is two days behind
-	demoStart = "2026-09-07"
+	demoAsOf = "2026-11-27" // a Friday: the day the week's reports go out
+	// demoDelayMean is the mean of the days from onset to report: the export holds the
+	// cases reported by the analysis date, so the last days' onsets are not all in it.
+	demoDelayMean = 3.0
+	demoStart     = "2026-09-07"
 	// demoIncubationDays is the invented pathogen's longest incubation period, for the
 	// "twice the longest incubation period" rule of thumb.
 	demoIncubationDays = 14
@@ -27,7 +29,7 @@ const (
 var demoJurisdictions = []string{"Marrowfield", "Ostvale", "Quillan Bay"}
 
 func demoScenario() simulate.Scenario {
-	until, _ := linelist.ParseISODay(demoUntil)
+	until, _ := linelist.ParseISODay(demoAsOf)
 	start, _ := linelist.ParseISODay(demoStart)
 	return simulate.Scenario{
 		R: 1.15, K: 0.3, SerialMean: 5.5, SerialSD: 2.8,
@@ -35,6 +37,13 @@ func demoScenario() simulate.Scenario {
 		Jurisdictions: demoJurisdictions, Settings: splitList(defaultSettings), AgeGroups: splitList(defaultAgeGroups),
 		StayProbability: 0.92, AssortativeAge: 0.55, MissingLinks: 0.1, Seed: 20261127,
 	}
+}
+
+// demoWriteOptions writes the demo's export: contact columns, and the cases reported by the
+// analysis date after a random delay.
+func demoWriteOptions() simulate.WriteOptions {
+	sc := demoScenario()
+	return simulate.WriteOptions{ContactColumns: true, ReportDelayMean: demoDelayMean, DelaySeed: sc.Seed, ReportedBy: sc.Until}
 }
 
 func newDemoCmd(e env) *cobra.Command {
@@ -53,7 +62,7 @@ which the reports never show), and writes one report per jurisdiction plus an in
 				return withCode(exitInput, err)
 			}
 			var buf bytes.Buffer
-			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true, ReportDelay: 2}); err != nil {
+			if err := simulate.WriteCSV(&buf, recs, demoWriteOptions()); err != nil {
 				return withCode(exitOutput, err)
 			}
 			// The line list is read from a scratch folder and written into the batch, beside

@@ -303,6 +303,7 @@ func printEstimate(w io.Writer, s *analysis.Summary) {
 			fmt.Fprintf(w, "  week of %s: median %s, 50%% %s, 90%% %s\n", wk.WeekStart, med, fmtCounts(wk.P50), fmtCounts(wk.P90))
 		}
 	}
+	printNowcast(w, s.Nowcast)
 	printNotes(w, s)
 }
 

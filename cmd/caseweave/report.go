@@ -39,6 +39,8 @@ type reportFlags struct {
 	incub      int
 	mail       bool
 	mailFlags  mailFlags
+	// backtest adds the backtest of the report's own line list (analysis.RunBacktest).
+	backtest bool
 	// templateConfig is set when the config was taken from the --template folder.
 	templateConfig bool
 	// pseudonyms are the batch's, one per pseudonym key.
@@ -77,6 +79,7 @@ unless --show-ids is given; small counts in stratified tables are suppressed.`,
 	fl.BoolVar(&f.pdf, "pdf", false, "also print each report to PDF with headless Chromium")
 	fl.IntVar(&f.incub, "incubation-days", 0, "longest incubation period in days, for the end-of-outbreak rule of thumb (overrides the template config's incubation_days)")
 	fl.BoolVar(&f.showIDs, "show-ids", false, "print case identifiers as they are instead of pseudonyms")
+	fl.BoolVar(&f.backtest, "backtest", false, "add a section scoring the forecasts past analysis dates would have made (as caseweave backtest --every 7)")
 	fl.BoolVar(&f.mail, "mail", false, "with --by, then send each report as caseweave mail does (see 'caseweave mail --help')")
 	f.mailFlags.register(c, false)
 	return c
@@ -226,6 +229,11 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	s, err := runAnalysis(ld, o)
 	if err != nil {
 		return page{}, err
+	}
+	if f.backtest {
+		if s.Backtest, err = analysis.RunBacktest(ld.list, o, analysis.BacktestOptions{}); err != nil {
+			return page{}, withCode(exitInput, err)
+		}
 	}
 	rel, err := analysis.Release(s, f.policy(rc))
 	if err != nil {

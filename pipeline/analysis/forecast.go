@@ -95,41 +95,25 @@ const streamForecast = 0x666f7265636173 // "forecas"
 const minDelayCases = 20
 
 // delay is the distribution of the days from onset to report over the cases that have
-// both dates (and a report no earlier than the onset), or nil when fewer than minDelayCases
-// have: then every onset up to the analysis date is taken to be in the list. It is the
-// plain empirical distribution: in a growing outbreak the longest delays of the latest
-// onsets are not yet in the export, so it runs a little short (a right-truncation that a
-// nowcast would correct). Computed once per run.
+// both dates (and a report no earlier than the onset), corrected for right truncation
+// (forecast.TruncatedDelay: the longest delays of the latest onsets are not yet in the
+// export), or nil when fewer than minDelayCases have both: then every onset up to the
+// analysis date is taken to be in the list. Computed once per run.
 func (a *run) delay() []float64 {
 	if a.delayDone {
 		return a.delayPMF
 	}
 	a.delayDone = true
-	var counts []int
-	n := 0
-	for i := range a.cases {
-		c := &a.cases[i]
-		if !c.HasReport || c.Report < c.Onset || c.Report > a.o.AsOf {
-			continue
-		}
-		d := int(c.Report - c.Onset)
-		if d > maxDelayDays {
-			continue
-		}
-		for len(counts) <= d {
-			counts = append(counts, 0)
-		}
-		counts[d]++
-		n++
-	}
-	a.delayCases = n
-	if n < minDelayCases {
+	a.delayCases = len(a.reported())
+	if a.delayCases < minDelayCases {
 		return nil
 	}
-	a.delayPMF = make([]float64, len(counts))
-	for d, c := range counts {
-		a.delayPMF[d] = float64(c) / float64(n)
+	pmf, err := forecast.TruncatedDelay(a.reported(), a.o.AsOf)
+	if err != nil {
+		a.note("No reporting delay: %v.", err)
+		return nil
 	}
+	a.delayPMF = pmf
 	return a.delayPMF
 }
 

@@ -136,6 +136,8 @@ func Release(s *Summary, p Policy) (*Released, error) {
 		st.Counted = nil
 	}
 	releaseWeeks(c)
+	releaseNowcast(c)
+	releaseBacktest(c, thr)
 	releaseTrend(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)

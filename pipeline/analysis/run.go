@@ -206,6 +206,7 @@ func Run(path string, ll *linelist.LineList, f *forest.Forest, opts Options) (*S
 	a.control()
 	a.endOfOutbreak()
 	a.forecast()
+	a.nowcast()
 	a.weekly()
 	a.epiCurve()
 	a.assess()
@@ -245,8 +246,11 @@ type run struct {
 	delayPMF   []float64
 	delayCases int
 	delayDone  bool
-	weekSums   []weekSum // offspring of the cases of each onset week, in week order
-	weekK      float64   // the dispersion behind the weekly intervals
+	// reportedCases are the cases the delay rests on (reported).
+	reportedCases []forecast.Reported
+	reportedDone  bool
+	weekSums      []weekSum // offspring of the cases of each onset week, in week order
+	weekK         float64   // the dispersion behind the weekly intervals
 }
 
 // weekSum is one onset week's cases and the offspring they caused.

@@ -44,6 +44,61 @@ type Summary struct {
 	// Notes are plain-language remarks the run made about itself (a model that could not be
 	// fitted, a section left out for lack of data); the report shows them.
 	Notes []string `json:"notes,omitempty"`
+
+	// Nowcast is the expected final count of the recent onset days, whose cases are not
+	// all reported yet.
+	Nowcast *Nowcast `json:"nowcast,omitempty"`
+
+	// Backtest scores the forecasts past analysis dates would have made (RunBacktest); set
+	// only when asked for (report --backtest).
+	Backtest *Backtest `json:"backtest,omitempty"`
+}
+
+// Nowcast corrects the last weeks of the epidemic curve for the cases not yet reported: the
+// onset-to-report delay estimated with right truncation taken into account, and for each
+// recent onset day the expected final count with prediction intervals (package forecast).
+// With fewer than 20 cases that have a report date (DelayCases) it holds no days: then
+// nothing can say how many are still to come.
+type Nowcast struct {
+	// DelayCases counts the cases with an onset and a report date; Method names the
+	// estimator of the delay, Delay its probabilities by day, P(delay = d).
+	DelayCases int       `json:"delay_cases"`
+	Method     string    `json:"method"`
+	Delay      []float64 `json:"delay,omitempty"`
+	// Days are the recent onset days, oldest first; Release leaves them out (their counts
+	// may be small) and keeps Weeks.
+	Days  []NowcastDay  `json:"days,omitempty"`
+	Weeks []NowcastWeek `json:"weeks,omitempty"`
+}
+
+// NowcastDay is one onset day: the cases listed, the estimated share reported by the
+// analysis date, the expected final count and the median and central 50% and 90%
+// prediction intervals of the final count.
+type NowcastDay struct {
+	Onset    linelist.Day `json:"onset"`
+	Observed int          `json:"observed"`
+	Reported float64      `json:"reported"`
+	// Unknown: no delay this short was seen, so nothing says how many are to come; the
+	// figures are the observed count.
+	Unknown  bool    `json:"unknown"`
+	Expected float64 `json:"expected"`
+	Median   int     `json:"median"`
+	P50      [2]int  `json:"p50"`
+	P90      [2]int  `json:"p90"`
+}
+
+// NowcastWeek is the same summed over the nowcast days of one ISO week; Observed is null
+// where the released epidemic curve withholds the week's count.
+type NowcastWeek struct {
+	WeekStart linelist.Day `json:"week_start"`
+	Observed  *int         `json:"observed"`
+	// Unknown counts the days of the week whose final count cannot be estimated: the
+	// week's figures are then a lower bound.
+	Unknown  int     `json:"unknown"`
+	Expected float64 `json:"expected"`
+	Median   int     `json:"median"`
+	P50      [2]int  `json:"p50"`
+	P90      [2]int  `json:"p90"`
 }
 
 // Tool names the program that made the summary.

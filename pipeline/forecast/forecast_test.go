@@ -24,10 +24,15 @@ func gammaSerial(mean, sd float64) timing.GammaInterval {
 // known cuts a simulated outbreak at the analysis date: the cases with onset up to it, each
 // with the people among them it has infected; and the truth, the cases by week after it.
 func known(recs []simulate.Record, asOf linelist.Day, weeks, delay int) ([]Case, []int) {
+	return knownBy(recs, asOf, weeks, func(int) int { return delay })
+}
+
+// knownBy is known with record i reported delayOf(i) days after its onset.
+func knownBy(recs []simulate.Record, asOf linelist.Day, weeks int, delayOf func(i int) int) ([]Case, []int) {
 	idx := map[string]int{}
 	var cases []Case
-	for _, r := range recs {
-		if r.Onset+linelist.Day(delay) <= asOf {
+	for i, r := range recs {
+		if r.Onset+linelist.Day(delayOf(i)) <= asOf {
 			idx[r.ID] = len(cases)
 			cases = append(cases, Case{Onset: r.Onset})
 		}

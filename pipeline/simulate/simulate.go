@@ -12,6 +12,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 )
 
@@ -172,6 +173,24 @@ type WriteOptions struct {
 	ContactColumns bool
 	// ReportDelay is the fixed number of days from onset to report (0: no report_date).
 	ReportDelay int
+	// ReportDelayMean, when positive, replaces ReportDelay by a random delay of this mean:
+	// negative binomial of size 2 (a gamma–Poisson mixture, Johnson, Kemp & Kotz 2005,
+	// Univariate Discrete Distributions, §5.3), so that some reports come much later than
+	// most; each case's from its own stream of DelaySeed, so the file is reproducible.
+	ReportDelayMean float64
+	DelaySeed       uint64
+	// ReportedBy, when set, leaves out the cases reported after it: the export as it
+	// stands on that day.
+	ReportedBy *linelist.Day
+}
+
+// reportDelay is the delay of record i under opts (ReportDelay or ReportDelayMean).
+func (opts WriteOptions) reportDelay(i int) int {
+	if opts.ReportDelayMean <= 0 {
+		return opts.ReportDelay
+	}
+	rng := numeric.StreamRand(opts.DelaySeed, i)
+	return numeric.Poisson(rng, numeric.Gamma(rng, 2)*opts.ReportDelayMean/2)
 }
 
 // contactColumns are the invented personal-data columns of WriteOptions.ContactColumns.
@@ -193,8 +212,11 @@ func WriteCSV(w io.Writer, recs []Record, opts WriteOptions) error {
 	for i, r := range recs {
 		c := linelist.Case{ID: r.ID, InfectorID: r.InfectorID, Onset: r.Onset, Imported: r.Imported,
 			Strata: &linelist.Strata{Setting: r.Setting, AgeGroup: r.AgeGroup, Jurisdiction: r.Jurisdiction}}
-		if opts.ReportDelay > 0 {
-			c.Report, c.HasReport = r.Onset+linelist.Day(opts.ReportDelay), true
+		if opts.ReportDelay > 0 || opts.ReportDelayMean > 0 {
+			c.Report, c.HasReport = r.Onset+linelist.Day(opts.reportDelay(i)), true
+			if opts.ReportedBy != nil && c.Report > *opts.ReportedBy {
+				continue
+			}
 		}
 		for j, col := range cols {
 			row[j] = col.Format(&c)
