@@ -137,6 +137,8 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	}
 	releaseWeeks(c)
 	releaseTrend(c)
+	releaseSinceLast(c, thr)
+	releaseForecastCheck(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)
 	return &Released{s: c}, nil
