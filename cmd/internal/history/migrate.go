@@ -101,16 +101,20 @@ func SchemaVersion() int { return len(migrations) }
 
 // migrate brings db to SchemaVersion, one step per transaction; the transactions take the
 // write lock at their start, so two runs opening a new archive at once migrate it once.
-func migrate(db *sql.DB) error {
+func migrate(db *sql.DB) error { return migrateTo(db, len(migrations)) }
+
+// migrateTo brings db to schema version target (the fixture of an older version is made
+// with it).
+func migrateTo(db *sql.DB, target int) error {
 	for {
-		done, err := migrateStep(db)
+		done, err := migrateStep(db, target)
 		if err != nil || done {
 			return err
 		}
 	}
 }
 
-func migrateStep(db *sql.DB) (bool, error) {
+func migrateStep(db *sql.DB, target int) (bool, error) {
 	tx, err := db.Begin()
 	if err != nil {
 		return false, err
@@ -120,7 +124,7 @@ func migrateStep(db *sql.DB) (bool, error) {
 	if err := tx.QueryRow("PRAGMA user_version").Scan(&v); err != nil {
 		return false, err
 	}
-	if v >= len(migrations) {
+	if v >= target {
 		return true, nil
 	}
 	if v == 0 {
