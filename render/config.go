@@ -101,6 +101,8 @@ type Config struct {
 	IncubationDays *int
 	// PseudonymKey keys the hash that replaces case identifiers. It never appears in output.
 	PseudonymKey string
+	// History is the run archive report and estimate record into (as --history does).
+	History string
 	// Colours pins a chart colour (#rrggbb) to a category value, such as a setting.
 	Colours map[string]string
 	// OffspringScale is the count axis of the offspring chart: "log", "linear", or ""
@@ -260,6 +262,7 @@ var configKeys = []configKey{
 		return nil
 	}},
 	{"pseudonym_key", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "pseudonym_key", &c.PseudonymKey) }},
+	{"history", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "history", &c.History) }},
 	{"offspring_scale", func(c *Config, v *yaml.Node) error {
 		if err := decodeScalar(v, "offspring_scale", &c.OffspringScale); err != nil {
 			return err

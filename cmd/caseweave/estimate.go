@@ -33,6 +33,8 @@ type estimateFlags struct {
 	serialFixed    string
 	workers        int
 	infer          bool
+	// history is the run archive (history.go).
+	history string
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -50,6 +52,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.Float64Var(&f.importsPerWeek, "imports-per-week", 0, "mean number of imported cases a week added to the forecast")
 	fl.StringVar(&f.serialFixed, "serial-fixed", "", "use an agreed gamma serial interval MEAN,SD (days) instead of fitting one")
 	fl.BoolVar(&f.infer, "infer-missing", false, "give unlinked, non-imported cases an infector by Wallinga–Teunis weights, afresh in each bootstrap replicate")
+	f.registerHistory(c)
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
 
@@ -157,8 +160,19 @@ from cluster sizes alone; and projects the next generations.`,
 			if err != nil {
 				return err
 			}
+			arch, err := f.openHistory(ld.config)
+			if err != nil {
+				return err
+			}
+			defer arch.Close()
+			if err := annotate(arch, s, archiveKey(ld.config, nil, ""), ld, nil); err != nil {
+				return err
+			}
 			printEstimate(f.textOut(e), s)
-			return f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s })
+			if err := f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s }); err != nil {
+				return err
+			}
+			return f.recordEstimate(arch, s, ld)
 		},
 	}
 	f.register(c)
