@@ -30,7 +30,9 @@ const DefaultCaution = "These figures describe the cases that were reported and 
 var sectionTitles = []struct{ name, title string }{
 	{"headline", "At a glance"},
 	{"epicurve", "Cases over time"},
+	{"since_last", "Since the last report"},
 	{"forecast", "The weeks ahead"},
+	{"trends", "Across reports"},
 	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},
 	{"r_and_k", "Reproduction number and spread"},
