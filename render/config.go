@@ -30,8 +30,8 @@ const DefaultCaution = "These figures describe the cases that were reported and 
 var sectionTitles = []struct{ name, title string }{
 	{"headline", "At a glance"},
 	{"epicurve", "Cases over time"},
-	{"since_last", "Since the last report"},
 	{"forecast", "The weeks ahead"},
+	{"since_last", "Since the last report"},
 	{"trends", "Across reports"},
 	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},

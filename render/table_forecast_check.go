@@ -1,6 +1,6 @@
 package render
 
-func init() { registerTable("forecast_check", 16, tableForecastCheck) }
+func init() { registerTable("forecast_check", 18, tableForecastCheck) }
 
 // tableForecastCheck lists each archived forecast of a past week against what was observed.
 func tableForecastCheck(st *renderState, f cellFmt) (t table, ok bool, err error) {

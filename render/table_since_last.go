@@ -3,8 +3,8 @@ package render
 import "github.com/caseweave/caseweave/pipeline/analysis"
 
 func init() {
-	registerTable("since_last", 12, tableSinceLast)
-	registerTable("since_changes", 13, tableSinceChanges)
+	registerTable("since_last", 16, tableSinceLast)
+	registerTable("since_changes", 17, tableSinceChanges)
 }
 
 // tableSinceLast counts the new cases and the revisions since the last report.
