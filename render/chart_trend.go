@@ -66,9 +66,9 @@ func (st *renderState) trendChart(ts []analysis.TrendPoint, p trendPanel) (chart
 		if sp.Estimate != nil {
 			known++
 		}
-		est[i] = opts.LineData{Value: f.p(sp.Estimate, "an estimate")}
-		up[i] = opts.LineData{Value: f.p(sp.Upper, "an upper bound")}
-		lo[i] = opts.LineData{Value: f.p(sp.Lower, "a lower bound")}
+		est[i] = opts.LineData{Value: rounded(f.p(sp.Estimate, "an estimate"))}
+		up[i] = opts.LineData{Value: rounded(f.p(sp.Upper, "an upper bound"))}
+		lo[i] = opts.LineData{Value: rounded(f.p(sp.Lower, "a lower bound"))}
 	}
 	if known < 2 {
 		return chartSpec{}, false, nil
@@ -95,4 +95,12 @@ func (st *renderState) trendChart(ts []analysis.TrendPoint, p trendPanel) (chart
 		return chartSpec{}, false, err
 	}
 	return chartSpec{ID: id, Title: p.title, Caption: p.caption, Height: chartHeight, Option: obj}, true, nil
+}
+
+// rounded is a chart value to 3 decimals; "-" (no value) stays.
+func rounded(v any) any {
+	if x, ok := v.(float64); ok {
+		return round(x, 3)
+	}
+	return v
 }

@@ -53,7 +53,7 @@ which the reports never show), and writes one report per jurisdiction plus an in
 				return withCode(exitInput, err)
 			}
 			var buf bytes.Buffer
-			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true, ReportDelay: 2}); err != nil {
+			if err := simulate.WriteCSV(&buf, recs, simulate.WriteOptions{ContactColumns: true, ReportDelay: demoReportDelay}); err != nil {
 				return withCode(exitOutput, err)
 			}
 			// The line list is read from a scratch folder and written into the batch, beside
@@ -69,8 +69,12 @@ which the reports never show), and writes one report per jurisdiction plus an in
 				return withCode(exitOutput, err)
 			}
 			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), filepath.Join(out, listName))
+			archive := filepath.Join(scratch, "history.sqlite")
+			if err := demoHistory(e, recs, scratch, archive); err != nil {
+				return err
+			}
 			rc := reportCommand(e, map[string][]byte{listName: buf.Bytes()})
-			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "-o", out, list}
+			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "--history", archive, "-o", out, list}
 			if pdf {
 				args = append([]string{"--pdf"}, args...)
 			}
