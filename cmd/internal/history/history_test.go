@@ -237,3 +237,12 @@ func TestFailedRecordWritesNothing(t *testing.T) {
 		t.Errorf("after the failed record: %d runs, %d cases; want 1 and 9 (the first run only)", runs, cases)
 	}
 }
+
+func mustJSON(t *testing.T, v any) []byte {
+	t.Helper()
+	b, err := json.Marshal(v)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return b
+}
