@@ -33,6 +33,8 @@ var sectionTitles = []struct{ name, title string }{
 	{"nowcast", "Recent weeks, corrected for late reports"},
 	{"forecast", "The weeks ahead"},
 	{"backtest", "How past forecasts fared"},
+	{"since_last", "Since the last report"},
+	{"trends", "Across reports"},
 	{"data_quality", "Data quality"},
 	{"offspring", "How many people each case infected"},
 	{"r_and_k", "Reproduction number and spread"},
@@ -103,6 +105,8 @@ type Config struct {
 	IncubationDays *int
 	// PseudonymKey keys the hash that replaces case identifiers. It never appears in output.
 	PseudonymKey string
+	// History is the run archive report and estimate record into (as --history does).
+	History string
 	// Colours pins a chart colour (#rrggbb) to a category value, such as a setting.
 	Colours map[string]string
 	// OffspringScale is the count axis of the offspring chart: "log", "linear", or ""
@@ -262,6 +266,7 @@ var configKeys = []configKey{
 		return nil
 	}},
 	{"pseudonym_key", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "pseudonym_key", &c.PseudonymKey) }},
+	{"history", func(c *Config, v *yaml.Node) error { return decodeScalar(v, "history", &c.History) }},
 	{"offspring_scale", func(c *Config, v *yaml.Node) error {
 		if err := decodeScalar(v, "offspring_scale", &c.OffspringScale); err != nil {
 			return err

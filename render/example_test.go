@@ -35,7 +35,7 @@ func ExampleRender() {
 func ExampleParseConfig() {
 	_, err := render.ParseConfig("config.yaml", []byte("jurisdiction: North\nsuppres_below: 3\n"))
 	fmt.Println(err)
-	// Output: config.yaml: line 2: bad_config: unknown key "suppres_below" (known keys: input, jurisdiction, contact, suppress_below, labels, sections, hide, caution, incubation_days, pseudonym_key, offspring_scale, colours, mail)
+	// Output: config.yaml: line 2: bad_config: unknown key "suppres_below" (known keys: input, jurisdiction, contact, suppress_below, labels, sections, hide, caution, incubation_days, pseudonym_key, history, offspring_scale, colours, mail)
 }
 
 func ExampleChartNames() {

@@ -97,5 +97,5 @@ func status(s *analysis.Summary) string {
 	if e := s.EndOfOutbreak; e != nil {
 		line += fmt.Sprintf("; last onset %s", e.LastOnset)
 	}
-	return line
+	return line + sinceStatus(s)
 }

@@ -78,8 +78,12 @@ which the reports never show), and writes one report per jurisdiction plus an in
 				return withCode(exitOutput, err)
 			}
 			fmt.Fprintf(e.stderr, "simulated %d cases: %s\n", len(recs), filepath.Join(out, listName))
+			archive := filepath.Join(scratch, "history.sqlite")
+			if err := demoHistory(e, recs, scratch, archive); err != nil {
+				return err
+			}
 			rc := reportCommand(e, map[string][]byte{listName: buf.Bytes()})
-			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "-o", out, list}
+			args = []string{"--as-of", demoAsOf, "--by", linelist.ColJurisdiction, "--incubation-days", fmt.Sprint(demoIncubationDays), "--history", archive, "-o", out, list}
 			if pdf {
 				args = append([]string{"--pdf"}, args...)
 			}

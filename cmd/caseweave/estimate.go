@@ -38,6 +38,8 @@ type estimateFlags struct {
 	inferMethod        string
 	inferAscertainment float64
 	inferWithin        string
+	// history is the run archive (history.go).
+	history string
 }
 
 func (f *estimateFlags) register(c *cobra.Command) {
@@ -59,6 +61,7 @@ func (f *estimateFlags) register(c *cobra.Command) {
 	fl.StringVar(&f.inferMethod, "infer-method", analysis.InferAugmentation, "how --infer-missing draws infectors: augmentation (onset timing and how many each case infected, keeping superspreading) or wallinga-teunis (onset timing alone)")
 	fl.StringVar(&f.inferWithin, "infer-within", analysis.InferWithinJurisdiction, "draw inferred infectors from cases of the same jurisdiction, setting, jurisdiction+setting, or all")
 	fl.Float64Var(&f.inferAscertainment, "infer-ascertainment", 1, "share of infectors that are in the line list, in (0, 1]; below 1 the augmentation may give a case an infector outside the list")
+	f.registerHistory(c)
 	fl.IntVar(&f.workers, "workers", 0, "goroutines for the bootstrap (0: all cores); results do not depend on it")
 }
 
@@ -184,8 +187,19 @@ from cluster sizes alone; and projects the next generations.`,
 			if err != nil {
 				return err
 			}
+			arch, err := f.openHistory(ld.config)
+			if err != nil {
+				return err
+			}
+			defer arch.Close()
+			if err := annotate(arch, s, archiveKey(ld.config, nil, ""), ld, nil); err != nil {
+				return err
+			}
 			printEstimate(f.textOut(e), s)
-			return f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s })
+			if err := f.writeJSONs(e, s, func(r *analysis.Released) any { return r.Summary() }, func(s *analysis.Summary) any { return s }); err != nil {
+				return err
+			}
+			return f.recordEstimate(arch, s, ld)
 		},
 	}
 	f.register(c)

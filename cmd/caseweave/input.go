@@ -88,13 +88,7 @@ func (f *inputFlags) load(e env, paths []string) (*loaded, error) {
 // release follows the --config file's threshold and pseudonym key.
 func (f *inputFlags) writeJSONs(e env, s *analysis.Summary, view func(*analysis.Released) any, full func(*analysis.Summary) any) error {
 	if f.jsonOut != "" {
-		p := analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")}
-		if f.config != "" {
-			if c, err := render.LoadConfigFile(f.config); err == nil {
-				p = analysis.Policy{SuppressBelow: c.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(c.PseudonymKey)}
-			}
-		}
-		rel, err := analysis.Release(s, p)
+		rel, err := analysis.Release(s, f.jsonPolicy())
 		if err != nil {
 			return withCode(exitInput, err)
 		}
@@ -106,6 +100,18 @@ func (f *inputFlags) writeJSONs(e env, s *analysis.Summary, view func(*analysis.
 		return writeJSON(e, f.internalJSON, full(s))
 	}
 	return nil
+}
+
+// jsonPolicy is the disclosure policy of --json: the --config file's threshold and
+// pseudonym key.
+func (f *inputFlags) jsonPolicy() analysis.Policy {
+	p := analysis.Policy{Pseudonyms: analysis.NewPseudonyms("")}
+	if f.config != "" {
+		if c, err := render.LoadConfigFile(f.config); err == nil {
+			p = analysis.Policy{SuppressBelow: c.SuppressBelow, Pseudonyms: analysis.NewPseudonyms(c.PseudonymKey)}
+		}
+	}
+	return p
 }
 
 // textOut is where a command prints its text summary: standard output, unless a JSON

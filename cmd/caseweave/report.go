@@ -10,6 +10,7 @@ import (
 
 	"errors"
 	"fmt"
+	"github.com/caseweave/caseweave/cmd/internal/history"
 	"github.com/caseweave/caseweave/cmd/internal/output"
 	"io/fs"
 	"os"
@@ -49,6 +50,8 @@ type reportFlags struct {
 	// (the demo's line list).
 	inputPaths []string
 	extra      map[string][]byte
+	// archive is the run archive of --history, nil without one.
+	archive *history.Archive
 }
 
 func newReportCmd(e env) *cobra.Command { return reportCommand(e, nil) }
@@ -94,6 +97,7 @@ type page struct {
 	tables       []render.TableFile
 	released     *analysis.Released
 	internal     *analysis.Summary
+	hist         *history.Run // what the run archive records, nil without one
 }
 
 func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
@@ -133,6 +137,10 @@ func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
 		return err
 	}
 	f.categories = analysis.SettingLabels(ld.list.Cases)
+	if f.archive, err = f.openHistory(ld.config); err != nil {
+		return err
+	}
+	defer f.archive.Close()
 	var pages []page
 	if f.by == "" {
 		p, err := f.one(c, e, ld, tmplRoot, nil)
@@ -168,6 +176,9 @@ func (f *reportFlags) run(c *cobra.Command, e env, paths []string) error {
 		}
 	}
 	if err := f.write(e, pages, f.extra); err != nil {
+		return err
+	}
+	if err := record(f.archive, archiveRuns(pages)); err != nil {
 		return err
 	}
 	if f.mail {
@@ -235,6 +246,9 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 			return page{}, withCode(exitInput, err)
 		}
 	}
+	if err := annotate(f.archive, s, archiveKey(&rc, sc, f.by), ld, o.Select); err != nil {
+		return page{}, err
+	}
 	rel, err := analysis.Release(s, f.policy(rc))
 	if err != nil {
 		return page{}, withCode(exitInput, err)
@@ -254,6 +268,10 @@ func (f *reportFlags) one(c *cobra.Command, e env, ld *loaded, fsys fs.FS, sc *s
 	p.html, p.released, p.internal = html, rel, s
 	if p.json, err = marshalJSON(rel.Summary()); err != nil {
 		return page{}, withCode(exitOutput, err)
+	}
+	if f.archive != nil {
+		r := archiveRun(archiveKey(&rc, sc, f.by), s, rel, p.json, ld, o.Select)
+		p.hist = &r
 	}
 	if f.internalJSON != "" {
 		if p.internalJSON, err = marshalJSON(s); err != nil {

@@ -139,6 +139,8 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	releaseNowcast(c)
 	releaseBacktest(c, thr)
 	releaseTrend(c)
+	releaseSinceLast(c, thr)
+	releaseForecastCheck(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)
 	return &Released{s: c}, nil

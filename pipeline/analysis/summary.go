@@ -45,6 +45,16 @@ type Summary struct {
 	// fitted, a section left out for lack of data); the report shows them.
 	Notes []string `json:"notes,omitempty"`
 
+	// SinceLast compares this run with the latest earlier run of the same jurisdiction in
+	// the run archive (--history); nil without an archive or an earlier run.
+	SinceLast *SinceLast `json:"since_last,omitempty"`
+	// Trend is the key estimates of every archived run of the jurisdiction and of this one,
+	// oldest first; empty without an archive.
+	Trend []TrendPoint `json:"trend,omitempty"`
+	// ForecastCheck sets the archived forecasts for weeks that have now passed against the
+	// cases observed in them; nil when no archived forecast covers a past week.
+	ForecastCheck *ForecastCheck `json:"forecast_check,omitempty"`
+
 	// Nowcast is the expected final count of the recent onset days, whose cases are not
 	// all reported yet.
 	Nowcast *Nowcast `json:"nowcast,omitempty"`
@@ -687,4 +697,103 @@ type Multitype struct {
 	// In a released view each is null below the threshold.
 	UnknownAge       *int `json:"unknown_age"`
 	UnknownInfectees *int `json:"unknown_infectees"`
+}
+
+// SinceLast is what changed between the archive's latest earlier run of the jurisdiction
+// (analysis date Previous) and this one. New cases are those of this export whose identifier
+// the earlier export did not have: by onset after Previous (NewByOnset) or on or before it
+// (Revisions.Late), and by report date after Previous (NewByReport). In a released view each
+// count is null from 1 to the threshold − 1, with the complementary suppression of
+// releaseSinceLast.
+type SinceLast struct {
+	Previous        linelist.Day `json:"previous"`
+	PreviousVersion string       `json:"previous_version"`
+	NewByOnset      *int         `json:"new_by_onset"`
+	NewByReport     *int         `json:"new_by_report"`
+	Revisions       Revisions    `json:"revisions"`
+	// Changes are R, k, the recent R and the probability that the current chains die out,
+	// now and then.
+	Changes []Change `json:"changes"`
+	// IDs are the identifiers behind each revision (a removed case by its hashed identifier,
+	// since the archive keeps no other); the full summary only, a released view drops them.
+	IDs *RevisionIDs `json:"ids,omitempty"`
+}
+
+// Revisions counts the earlier export's cases revised in this one: cases new with an onset
+// on or before the earlier analysis date (Late), cases no longer listed (Removed), onset
+// dates changed, and links of cases in both exports added (no infector then), removed (none
+// now) or moved (another infector).
+type Revisions struct {
+	Late         *int `json:"late"`
+	Removed      *int `json:"removed"`
+	OnsetChanged *int `json:"onset_changed"`
+	LinksAdded   *int `json:"links_added"`
+	LinksRemoved *int `json:"links_removed"`
+	LinksMoved   *int `json:"links_moved"`
+}
+
+// RevisionIDs lists the identifiers behind each count of Revisions, sorted.
+type RevisionIDs struct {
+	Late         []string `json:"late"`
+	Removed      []string `json:"removed"`
+	OnsetChanged []string `json:"onset_changed"`
+	LinksAdded   []string `json:"links_added"`
+	LinksRemoved []string `json:"links_removed"`
+	LinksMoved   []string `json:"links_moved"`
+}
+
+// Change is one estimate now and at the earlier run, each with its headline interval, and
+// whether the change exceeds the uncertainty (ChangeBeyondUncertainty).
+type Change struct {
+	Name   string `json:"name"` // "R", "k", "recent_R" or "die_out"
+	Now    Span   `json:"now"`
+	Then   Span   `json:"then"`
+	Beyond bool   `json:"beyond"`
+}
+
+// Span is an estimate with the bounds of its headline interval (null where unknown).
+type Span struct {
+	Estimate *float64 `json:"estimate"`
+	Lower    *float64 `json:"lower"`
+	Upper    *float64 `json:"upper"`
+}
+
+// TrendPoint is one run's key estimates: R, k, the recent R (the latest week's R of
+// TimeVarying not censored), the probability that the current chains die out, and the
+// forecast for the first week after the analysis date (median and 90% interval).
+type TrendPoint struct {
+	AsOf     linelist.Day `json:"as_of"`
+	Cases    int          `json:"cases"`
+	R        Span         `json:"R"`
+	K        Span         `json:"k"`
+	RecentR  Span         `json:"recent_R"`
+	DieOut   Span         `json:"die_out"`
+	NextWeek *Span        `json:"next_week"`
+}
+
+// ForecastCheck is each archived forecast for a week that has passed, against the cases
+// with onset in that week in this export, and the score over all of them.
+type ForecastCheck struct {
+	Weeks []CheckedWeek `json:"weeks"`
+	// Scored counts the weeks with an observed count; Within50 and Within90 how many of
+	// them fell in the forecast's 50% and 90% intervals; MeanWIS is their mean weighted
+	// interval score (WeightedIntervalScore).
+	Scored   int      `json:"scored"`
+	Within50 int      `json:"within_50"`
+	Within90 int      `json:"within_90"`
+	MeanWIS  *float64 `json:"mean_wis"`
+}
+
+// CheckedWeek is one archived forecast week: the run that made it, the week, the forecast
+// and the cases observed (null in a released view where the epidemic curve withholds it).
+type CheckedWeek struct {
+	Made      linelist.Day `json:"made"`
+	WeekStart linelist.Day `json:"week_start"`
+	Median    *int         `json:"median"`
+	P50       [2]*int      `json:"p50"`
+	P90       [2]*int      `json:"p90"`
+	Observed  *int         `json:"observed"`
+	Within50  bool         `json:"within_50"`
+	Within90  bool         `json:"within_90"`
+	WIS       *float64     `json:"wis"`
 }
