@@ -128,7 +128,7 @@ branching-process outlook, and writes a self-contained HTML report.`,
 		return &exitError{exitUsage, fmt.Errorf("%w (see '%s --help')", err, c.CommandPath())}
 	})
 	root.CompletionOptions.DisableDefaultCmd = true
-	root.AddCommand(newCheckCmd(e), newEstimateCmd(e), newOutlookCmd(e), newReportCmd(e), newDemoCmd(e), newSimulateCmd(e), newTemplateCmd(e), newMailCmd(e), newBacktestCmd(e))
+	root.AddCommand(newCheckCmd(e), newEstimateCmd(e), newOutlookCmd(e), newReportCmd(e), newDemoCmd(e), newSimulateCmd(e), newTemplateCmd(e), newMailCmd(e), newBacktestCmd(e), newHistoryCmd(e))
 	return root
 }
 

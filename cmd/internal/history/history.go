@@ -334,13 +334,15 @@ func nullI(p *int) any {
 	return int64(*p)
 }
 
-// Entry is one archived run.
+// Entry is one archived run; Released is its released Summary as stored (JSON) and
+// Summary the same read back.
 type Entry struct {
 	ID           int64
 	Jurisdiction string
 	AsOf         linelist.Day
 	Version      string
 	InputSHA256  string
+	Released     json.RawMessage
 	Summary      *analysis.Summary
 }
 
@@ -350,9 +352,45 @@ func (a *Archive) Runs(jurisdiction string, before linelist.Day) ([]Entry, error
 	if a.db == nil {
 		return nil, nil
 	}
-	rows, err := a.db.Query(`SELECT id, as_of, version, input_sha256, summary FROM runs
+	return a.entries(`SELECT id, jurisdiction, as_of, version, input_sha256, summary FROM runs
 		WHERE id IN (SELECT max(id) FROM runs WHERE jurisdiction = ? AND as_of < ? GROUP BY as_of)
 		ORDER BY as_of`, jurisdiction, before.String())
+}
+
+// Filter picks archived runs: of Jurisdiction (any when empty), with an analysis date
+// from From to To, both included (no bound when nil).
+type Filter struct {
+	Jurisdiction string
+	From, To     *linelist.Day
+}
+
+// List is every archived run Filter keeps, by analysis date and then in the order
+// recorded; nothing when the archive file does not exist yet.
+func (a *Archive) List(f Filter) ([]Entry, error) {
+	if a.db == nil {
+		return nil, nil
+	}
+	q := "SELECT id, jurisdiction, as_of, version, input_sha256, summary FROM runs WHERE 1"
+	var args []any
+	if f.Jurisdiction != "" {
+		q += " AND jurisdiction = ?"
+		args = append(args, f.Jurisdiction)
+	}
+	if f.From != nil {
+		q += " AND as_of >= ?"
+		args = append(args, f.From.String())
+	}
+	if f.To != nil {
+		q += " AND as_of <= ?"
+		args = append(args, f.To.String())
+	}
+	return a.entries(q+" ORDER BY as_of, id", args...)
+}
+
+// entries reads the runs query q selects (id, jurisdiction, as_of, version, input_sha256,
+// summary).
+func (a *Archive) entries(q string, args ...any) ([]Entry, error) {
+	rows, err := a.db.Query(q, args...)
 	if err != nil {
 		return nil, &Error{a.path, err}
 	}
@@ -361,15 +399,15 @@ func (a *Archive) Runs(jurisdiction string, before linelist.Day) ([]Entry, error
 	for rows.Next() {
 		var e Entry
 		var asOf, js string
-		if err := rows.Scan(&e.ID, &asOf, &e.Version, &e.InputSHA256, &js); err != nil {
+		if err := rows.Scan(&e.ID, &e.Jurisdiction, &asOf, &e.Version, &e.InputSHA256, &js); err != nil {
 			return nil, &Error{a.path, err}
 		}
-		e.Jurisdiction = jurisdiction
 		if e.AsOf, err = linelist.ParseISODay(asOf); err != nil {
 			return nil, &Error{a.path, fmt.Errorf("run %d has analysis date %q: %w", e.ID, asOf, err)}
 		}
+		e.Released = json.RawMessage(js)
 		e.Summary = new(analysis.Summary)
-		if err := json.Unmarshal([]byte(js), e.Summary); err != nil {
+		if err := json.Unmarshal(e.Released, e.Summary); err != nil {
 			return nil, &Error{a.path, fmt.Errorf("run %d's summary cannot be read: %w", e.ID, err)}
 		}
 		out = append(out, e)
