@@ -141,6 +141,7 @@ func Release(s *Summary, p Policy) (*Released, error) {
 	releaseTrend(c)
 	releaseSinceLast(c, thr)
 	releaseForecastCheck(c)
+	releaseBackfill(c)
 	coarsenTrees(c, thr)
 	releaseMultitype(c, thr)
 	return &Released{s: c}, nil

@@ -224,6 +224,59 @@ func CheckForecasts(s *Summary, archived []*Summary) {
 	s.ForecastCheck = fc
 }
 
+// FillBackfill sets s.Backfill to every onset week of the archived runs' epidemic curves
+// and of s's, with each run's count of it (oldest first, s last); nil without archived runs.
+func FillBackfill(s *Summary, archived []*Summary) {
+	s.Backfill = nil
+	if len(archived) == 0 {
+		return
+	}
+	runs := append(append([]*Summary(nil), archived...), s)
+	seen := map[linelist.Day]bool{}
+	var weeks []linelist.Day
+	for _, r := range runs {
+		if r.EpiCurve == nil {
+			continue
+		}
+		for _, w := range r.EpiCurve.Weeks {
+			if !seen[w] {
+				seen[w] = true
+				weeks = append(weeks, w)
+			}
+		}
+	}
+	slices.Sort(weeks)
+	b := &Backfill{Weeks: weeks, Reports: make([]BackfillReport, len(runs))}
+	for i, r := range runs {
+		b.Reports[i] = backfillReport(r, weeks)
+	}
+	s.Backfill = b
+}
+
+// backfillReport is r's count of each of weeks (see BackfillReport).
+func backfillReport(r *Summary, weeks []linelist.Day) BackfillReport {
+	br := BackfillReport{AsOf: r.AsOf, Counts: make([]*int, len(weeks))}
+	if r.EpiCurve == nil {
+		return br
+	}
+	for i, w := range weeks {
+		if w < r.AsOf {
+			br.Counts[i] = observedIn(r, w)
+		}
+	}
+	return br
+}
+
+// releaseBackfill takes this run's counts (the last report) from the released epidemic
+// curve; the archived reports' counts are from their released views already.
+func releaseBackfill(c *Summary) {
+	b := c.Backfill
+	if b == nil || len(b.Reports) == 0 {
+		return
+	}
+	b.Reports[len(b.Reports)-1] = backfillReport(c, b.Weeks)
+}
+
 // observedIn is the count of s's epidemic curve in the week starting w: 0 for a week the
 // curve does not reach, null where it withholds the count.
 func observedIn(s *Summary, w linelist.Day) *int {

@@ -62,6 +62,10 @@ type Summary struct {
 	// Backtest scores the forecasts past analysis dates would have made (RunBacktest); set
 	// only when asked for (report --backtest).
 	Backtest *Backtest `json:"backtest,omitempty"`
+
+	// Backfill is each onset week's count as each archived report and this run knew it;
+	// nil without an earlier run in the archive.
+	Backfill *Backfill `json:"backfill,omitempty"`
 }
 
 // Nowcast corrects the last weeks of the epidemic curve for the cases not yet reported: the
@@ -796,4 +800,20 @@ type CheckedWeek struct {
 	Within50  bool         `json:"within_50"`
 	Within90  bool         `json:"within_90"`
 	WIS       *float64     `json:"wis"`
+}
+
+// Backfill is each onset week's count as each archived report of the jurisdiction knew it,
+// and as this run knows it (last): a week whose count grows from report to report had cases
+// reported late.
+type Backfill struct {
+	Weeks   []linelist.Day   `json:"weeks"`
+	Reports []BackfillReport `json:"reports"`
+}
+
+// BackfillReport is one report's count for each week of Backfill.Weeks (Counts[i] for
+// Weeks[i]), from its epidemic curve: null where its released curve withholds the count,
+// where the week had not begun by its analysis date, or where it has no curve.
+type BackfillReport struct {
+	AsOf   linelist.Day `json:"as_of"`
+	Counts []*int       `json:"counts"`
 }

@@ -464,5 +464,6 @@ func (a *Archive) Annotate(s *analysis.Summary, jurisdiction string, cases []lin
 	analysis.CompareRuns(s, now, &analysis.Previous{AsOf: last.AsOf, Version: last.Version, Summary: last.Summary, Cases: prints})
 	analysis.FillTrend(s, sums)
 	analysis.CheckForecasts(s, sums)
+	analysis.FillBackfill(s, sums)
 	return nil
 }
