@@ -227,6 +227,11 @@ func fixtureSummary() *analysis.Summary {
 			{Made: day("2024-03-10"), WeekStart: weeks[len(weeks)-2], Median: ip(25), P50: [2]*int{ip(17), ip(33)}, P90: [2]*int{ip(9), ip(48)}, Observed: ip(30), Within50: true, Within90: true, WIS: fp(2.5)},
 			{Made: day("2024-03-17"), WeekStart: weeks[len(weeks)-1], Median: ip(22), P50: [2]*int{ip(15), ip(29)}, P90: [2]*int{ip(8), ip(44)}, Observed: ip(12), Within90: true, WIS: fp(3.7)},
 		}},
+		Backfill: &analysis.Backfill{Weeks: weeks[len(weeks)-3:], Reports: []analysis.BackfillReport{
+			{AsOf: day("2024-03-10"), Counts: []*int{ip(40), nil, nil}},
+			{AsOf: day("2024-03-17"), Counts: []*int{ip(44), ip(21), nil}},
+			{AsOf: day("2024-03-24"), Counts: []*int{ip(45), ip(26), ip(3)}}, // Release takes this run's from EpiCurve
+		}},
 		EndOfOutbreak: &analysis.EndOfOutbreak{Curve: curve, P95Date: dp("2024-04-16"), P99Date: dp("2024-05-01"), LastOnset: day("2024-03-20"),
 			P95Range:    [2]*linelist.Day{dp("2024-04-10"), dp("2024-04-24")},
 			RuleOfThumb: &analysis.RuleOfThumb{LongestIncubationDays: 14, Date: day("2024-04-17")}},

@@ -78,8 +78,8 @@ func TestRenderIsSelfContained(t *testing.T) {
 		}
 	}
 	ids := regexp.MustCompile(`data-cw-chart="([^"]*)"`).FindAllStringSubmatch(html, -1)
-	if len(ids) != 23 {
-		t.Errorf("found %d charts, want 23", len(ids))
+	if len(ids) != 24 {
+		t.Errorf("found %d charts, want 24", len(ids))
 	}
 	seen := map[string]bool{}
 	for _, m := range ids {
@@ -116,8 +116,8 @@ func TestHostileDataIsInertText(t *testing.T) {
 		}
 	}
 	// Inside the chart options the same strings stay data: no script breakout, __f__ kept.
-	if n := strings.Count(strings.ToLower(html), "<script"); n != 23+3 {
-		t.Errorf("found %d script elements, want %d (one option per chart + library + init + print)", n, 23+3)
+	if n := strings.Count(strings.ToLower(html), "<script"); n != 24+3 {
+		t.Errorf("found %d script elements, want %d (one option per chart + library + init + print)", n, 24+3)
 	}
 	for _, want := range []string{`\u003c/script\u003e\u003cscript\u003ealert(2)`, `\u003c!-- comment --\u003e __f__`} {
 		if !strings.Contains(html, want) {
