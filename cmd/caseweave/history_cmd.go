@@ -201,7 +201,11 @@ func writeRunList(w io.Writer, runs []history.Entry) error {
 		if len(sha) > 16 {
 			sha = sha[:16]
 		}
-		fmt.Fprintf(&b, "%-5d %-10s %-20s %-12s %-16s %s\n", r.ID, r.AsOf, r.Jurisdiction, r.Version, sha, spanText(analysis.TrendOf(r.Summary).R))
+		j := r.Jurisdiction
+		if j == "" {
+			j = "(none)"
+		}
+		fmt.Fprintf(&b, "%-5d %-10s %-20s %-12s %-16s %s\n", r.ID, r.AsOf, j, r.Version, sha, spanText(analysis.TrendOf(r.Summary).R))
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
