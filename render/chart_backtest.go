@@ -43,10 +43,7 @@ func (st *renderState) chartBacktest(bt *analysis.Backtest) ([]chartSpec, string
 		charts.WithXAxisOpts(xAxis("category", "ISO week of symptom onset")),
 		charts.WithYAxisOpts(yAxis("value", "Cases")))...)
 	line.SetXAxis(labels)
-	bandSeries(line, "90% range, upper end", u90, colBand90)
-	bandSeries(line, "50% range, upper end", u50, colBand50)
-	bandSeries(line, "50% range, lower end", l50, colBand90)
-	bandSeries(line, "90% range, lower end", l90, "#ffffff")
+	fanBands(line, u90, u50, l50, l90)
 	line.AddSeries("Forecast a week before (median)", med, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 		s.LineStyle = &opts.LineStyle{Width: 2, Color: colInk, Type: "dashed"}
 		s.ItemStyle = &opts.ItemStyle{Color: colInk}

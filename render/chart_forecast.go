@@ -72,10 +72,7 @@ func (st *renderState) chartForecast(fc *analysis.Forecast) ([]chartSpec, string
 		s.BarCategoryGap = "25%"
 	}))
 	line := charts.NewLine()
-	bandSeries(line, "90% range, upper end", u90, colBand90)
-	bandSeries(line, "50% range, upper end", u50, colBand50)
-	bandSeries(line, "50% range, lower end", l50, colBand90)
-	bandSeries(line, "90% range, lower end", l90, "#ffffff")
+	fanBands(line, u90, u50, l50, l90)
 	line.AddSeries("Forecast (median)", med, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 		s.Symbol = "circle"
 		s.SymbolSize = 6

@@ -38,10 +38,7 @@ func (st *renderState) chartForecastCheck(fc *analysis.ForecastCheck) ([]chartSp
 		charts.WithXAxisOpts(xAxis("category", "ISO week of onset (report that forecast it)")),
 		charts.WithYAxisOpts(yAxis("value", "cases with onset in the week")))...)
 	line.SetXAxis(labels)
-	bandSeries(line, "90% range, upper end", hi90, colBand90)
-	bandSeries(line, "50% range, upper end", hi50, colBand50)
-	bandSeries(line, "50% range, lower end", lo50, colBand90)
-	bandSeries(line, "90% range, lower end", lo90, "#ffffff")
+	fanBands(line, hi90, hi50, lo50, lo90)
 	line.AddSeries("Forecast median", med, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 		s.Symbol = "none"
 		s.LineStyle = &opts.LineStyle{Width: 1.5, Type: "dashed", Color: "#1f5c6e"}

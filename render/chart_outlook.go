@@ -42,10 +42,7 @@ func (st *renderState) chartOutlook(o *analysis.Outlook) ([]chartSpec, string, e
 			SplitLine: &opts.SplitLine{Show: opts.Bool(false)}}),
 		charts.WithYAxisOpts(yAxis("value", "New cases in that generation")))...)
 	line.SetXAxis(labels)
-	bandSeries(line, "90% range, upper end", u90, colBand90)
-	bandSeries(line, "50% range, upper end", u50, colBand50)
-	bandSeries(line, "50% range, lower end", l50, colBand90)
-	bandSeries(line, "90% range, lower end", l90, "#ffffff")
+	fanBands(line, u90, u50, l50, l90)
 	line.AddSeries("Expected (mean)", mean, charts.WithSeriesOpts(func(s *charts.SingleSeries) {
 		s.Symbol = "circle"
 		s.SymbolSize = 6

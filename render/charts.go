@@ -250,6 +250,15 @@ func markLineYAt(name string, y float64, color, position string) map[string]any 
 		"label":     map[string]any{"formatter": name, "color": color, "position": position}}
 }
 
+// fanBands draws the 50% and 90% prediction bands of a fan chart from their upper and
+// lower ends, outermost first, as bandSeries explains.
+func fanBands(line *charts.Line, u90, u50, l50, l90 []opts.LineData) {
+	bandSeries(line, "90% range, upper end", u90, colBand90)
+	bandSeries(line, "50% range, upper end", u50, colBand50)
+	bandSeries(line, "50% range, lower end", l50, colBand90)
+	bandSeries(line, "90% range, lower end", l90, "#ffffff")
+}
+
 // bandSeries draws prediction bands without stacking: each upper bound is an area filled in
 // its band's colour from the axis up, and each lower bound is painted over in the colour of
 // the band below it (the page background for the outermost), so tooltips show true values.
