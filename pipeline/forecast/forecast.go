@@ -76,6 +76,22 @@ type Result struct {
 	Capped int
 	// Cases is the number of new cases all simulations made, a measure of their cost.
 	Cases int
+	// sorted[w] holds every simulation's count for week w in increasing order, +Inf for a
+	// capped one: the predictive distribution the quantiles are read from.
+	sorted [][]float64
+}
+
+// CDF is the predictive probability of at most y cases with onset in week w (0-based):
+// the share of the simulations with at most y. A capped simulation counts above every y.
+func (r *Result) CDF(w, y int) float64 {
+	s := r.sorted[w]
+	i, _ := slices.BinarySearchFunc(s, float64(y), func(v, t float64) int {
+		if v <= t {
+			return -1
+		}
+		return 1
+	})
+	return float64(i) / float64(len(s))
 }
 
 // ErrNoNuPosterior: the model cannot condition a case's reproduction number on what it has
@@ -93,7 +109,11 @@ var ErrNoNuPosterior = errors.New("forecast: the offspring model has no individu
 // infecting; it infects Poisson(ν_i(1 − F_i)) more people, each with onset t_i + round(X),
 // X drawn from the serial interval given that the infectee is not yet listed. Every new
 // case draws ν from the prior, Gamma(k, mean R), infects Poisson(ν) people after
-// round(X) days, and so on until onsets pass the last forecast week. This is the
+// round(X) days, and so on until onsets pass the last forecast week. A new case with onset
+// up to AsOf is one not yet reported; each person it infects with onset t up to AsOf has
+// been reported already with probability P(D ≤ AsOf − t), and is then one of the known
+// cases (whose infector is not in the list), simulated from there: such an infectee is
+// dropped, not made twice. This is the
 // Bienaymé–Galton–Watson process of the fitted model run in calendar time; the intervals
 // are quantiles over all simulations, which mix over Models.
 func Forecast(cases []Case, o Options) (*Result, error) {
@@ -225,7 +245,11 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 					stack = stack[:len(stack)-1]
 					nu := m.post.PosteriorSample(rng, m.r, 0, 0)
 					for range numeric.Poisson(rng, nu) {
-						if ok = add(on + days.draw(rng.Float64())); !ok {
+						c := on + days.draw(rng.Float64())
+						if days.listed(rng, int(o.AsOf-c), delayCDF) {
+							continue // in the list already, as a known case of its own
+						}
+						if ok = add(c); !ok {
 							break
 						}
 					}
@@ -246,8 +270,8 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 		}
 		res.Cases += sizes[s]
 	}
-	col := make([]float64, total)
 	for w := range o.Weeks {
+		col := make([]float64, total)
 		var sum numeric.Sum
 		for s := range total {
 			v := float64(counts[s][w])
@@ -266,6 +290,7 @@ func Forecast(cases []Case, o Options) (*Result, error) {
 			wk.Mean = math.NaN() // not known: the capped simulations hold only lower bounds
 		}
 		res.Weeks = append(res.Weeks, wk)
+		res.sorted = append(res.sorted, col)
 	}
 	return res, nil
 }
@@ -370,6 +395,19 @@ func (t dayTable) drawUnseen(rng *rand.Rand, lag int, f float64, delayCDF []floa
 		f = t.elapsed(lag, nil)
 	}
 	return t.draw(f + rng.Float64()*(1-f))
+}
+
+// listed reports, by a draw, whether a new case with onset lag days before the analysis
+// date is already in the list: it is with probability P(D ≤ lag). A simulated case with
+// onset up to the analysis date is one not yet reported, and the people it has infected
+// who have been reported are in the list as known cases (their infector unknown to it), so
+// they are simulated from there and must not be made a second time. Without a delay no new
+// case has onset up to the analysis date; false for an onset after it.
+func (t dayTable) listed(rng *rand.Rand, lag int, delayCDF []float64) bool {
+	if lag < 0 || delayCDF == nil {
+		return false
+	}
+	return rng.Float64() < delayCDF[min(lag, len(delayCDF)-1)]
 }
 
 // maxTries bounds the rejection of drawUnseen.
