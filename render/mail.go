@@ -265,46 +265,24 @@ func chartName(id string) string {
 	return id
 }
 
-// mailBlockRenderer writes blockNodes for the HTML part.
-type mailBlockRenderer struct {
-	tmpl   *template.Template
-	images map[string]string
-	note   string
-}
-
-func (r *mailBlockRenderer) RegisterFuncs(reg renderer.NodeRendererFuncRegisterer) {
-	reg.Register(kindBlock, r.render)
-}
-
-func (r *mailBlockRenderer) render(w util.BufWriter, _ []byte, n ast.Node, entering bool) (ast.WalkStatus, error) {
-	b := n.(*blockNode).b
-	var err error
-	switch {
-	case b.kind == blockFoldOpen && entering:
-		err = r.tmpl.ExecuteTemplate(w, "fold-open", b.title)
-	case b.kind == blockFoldOpen:
-		err = r.tmpl.ExecuteTemplate(w, "fold-close", nil)
-	case b.kind == blockBoxOpen && entering:
-		err = r.tmpl.ExecuteTemplate(w, "box-open", b.box)
-	case b.kind == blockBoxOpen:
-		err = r.tmpl.ExecuteTemplate(w, "box-close", nil)
-	case b.kind == blockChart && entering:
+// mailCharts writes a chart block of the HTML part: each chart with a picture in images
+// (keyed by chart name) as that picture, and for the charts without one the note, once.
+func mailCharts(tmpl *template.Template, images map[string]string, note string) func(util.BufWriter, []chartSpec) error {
+	return func(w util.BufWriter, charts []chartSpec) error {
 		noted := false
-		for _, c := range b.charts {
-			if cid, ok := r.images[chartName(c.ID)]; ok {
-				err = r.tmpl.ExecuteTemplate(w, "image", map[string]string{"CID": cid, "Title": plainText(c.Title), "Caption": plainText(c.Caption)})
-			} else if !noted && r.note != "" {
-				err, noted = r.tmpl.ExecuteTemplate(w, "note", plainText(r.note)), true
+		for _, c := range charts {
+			var err error
+			if cid, ok := images[chartName(c.ID)]; ok {
+				err = tmpl.ExecuteTemplate(w, "image", map[string]string{"CID": cid, "Title": plainText(c.Title), "Caption": plainText(c.Caption)})
+			} else if !noted && note != "" {
+				err, noted = tmpl.ExecuteTemplate(w, "note", plainText(note)), true
 			}
 			if err != nil {
-				break
+				return err
 			}
 		}
+		return nil
 	}
-	if err != nil {
-		return ast.WalkStop, err
-	}
-	return ast.WalkContinue, nil
 }
 
 // mailHTML writes the HTML part: goldmark's HTML of the tree (safe mode: raw HTML in the
@@ -315,7 +293,7 @@ func mailHTML(doc ast.Node, src []byte, opts MailOptions, title string) ([]byte,
 		return nil, err
 	}
 	md := (&renderState{}).mailMarkdown(renderer.WithNodeRenderers(
-		util.Prioritized(&mailBlockRenderer{tmpl: tmpl, images: opts.Images, note: opts.ChartNote}, 100)))
+		util.Prioritized(&blockRenderer{tmpl: tmpl, charts: mailCharts(tmpl, opts.Images, opts.ChartNote)}, 100)))
 	var body bytes.Buffer
 	if err := md.Renderer().Render(&body, src, doc); err != nil {
 		return nil, err

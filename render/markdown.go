@@ -160,10 +160,12 @@ const blockHTML = `
 </figure>
 {{end -}}`
 
-// blockRenderer writes blockNodes.
+// blockRenderer writes blockNodes: fold-outs and boxes from the templates "fold-open",
+// "fold-close", "box-open" and "box-close" of tmpl, and a chart block's charts through
+// charts, the report writing each as an interactive chart and the mail as a picture.
 type blockRenderer struct {
-	st   *renderState
-	tmpl *template.Template
+	tmpl   *template.Template
+	charts func(w util.BufWriter, charts []chartSpec) error
 }
 
 func (r *blockRenderer) RegisterFuncs(reg renderer.NodeRendererFuncRegisterer) {
@@ -183,17 +185,26 @@ func (r *blockRenderer) render(w util.BufWriter, _ []byte, n ast.Node, entering 
 	case b.kind == blockBoxOpen:
 		err = r.tmpl.ExecuteTemplate(w, "box-close", nil)
 	case b.kind == blockChart && entering:
-		for _, c := range b.charts {
-			c.Title, c.Caption = plainText(c.Title), plainText(c.Caption)
-			if err = r.tmpl.ExecuteTemplate(w, "chart", c); err != nil {
-				break
-			}
-		}
+		err = r.charts(w, b.charts)
 	}
 	if err != nil {
 		return ast.WalkStop, fmt.Errorf("writing a report block: %w", err)
 	}
 	return ast.WalkContinue, nil
+}
+
+// reportCharts writes a chart block of the report: each chart as an interactive figure
+// (the template "chart"), its title and caption as plain text.
+func reportCharts(tmpl *template.Template) func(util.BufWriter, []chartSpec) error {
+	return func(w util.BufWriter, charts []chartSpec) error {
+		for _, c := range charts {
+			c.Title, c.Caption = plainText(c.Title), plainText(c.Caption)
+			if err := tmpl.ExecuteTemplate(w, "chart", c); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
 }
 
 // markdownToHTML renders the executed template. goldmark stays in its default safe mode: raw
@@ -211,7 +222,7 @@ func (st *renderState) markdownToHTML(src []byte) ([]byte, error) {
 			parser.WithASTTransformers(util.Prioritized(&blockTransformer{st: st}, 100)),
 		),
 		goldmark.WithRendererOptions(
-			renderer.WithNodeRenderers(util.Prioritized(&blockRenderer{st: st, tmpl: tmpl}, 100)),
+			renderer.WithNodeRenderers(util.Prioritized(&blockRenderer{tmpl: tmpl, charts: reportCharts(tmpl)}, 100)),
 		),
 	)
 	var out bytes.Buffer
