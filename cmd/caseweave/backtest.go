@@ -35,11 +35,7 @@ error of the median, by weeks ahead. Only weeks that ended long enough before th
 date for nearly all their reports to be in (the reporting delay's 95th percentile) are scored.`,
 		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
-			ld, err := f.load(e, args)
-			if err != nil {
-				return err
-			}
-			o, err := f.options(c, e, ld)
+			ld, o, err := f.loadOptions(c, e, args)
 			if err != nil {
 				return err
 			}

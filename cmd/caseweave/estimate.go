@@ -66,6 +66,17 @@ func (f *estimateFlags) register(c *cobra.Command) {
 }
 
 // options turns the flags into analysis options; the caller adds Select and Scope.
+// loadOptions reads and links the line lists of args and turns the flags into the options
+// of their analysis.
+func (f *estimateFlags) loadOptions(c *cobra.Command, e env, args []string) (*loaded, analysis.Options, error) {
+	ld, err := f.load(e, args)
+	if err != nil {
+		return nil, analysis.Options{}, err
+	}
+	o, err := f.options(c, e, ld)
+	return ld, o, err
+}
+
 func (f *estimateFlags) options(c *cobra.Command, e env, ld *loaded) (analysis.Options, error) {
 	o := analysis.Options{
 		AsOf: ld.asOf, Replicates: f.replicates, Seed: f.seed, Level: f.level,
@@ -175,11 +186,7 @@ and BCa bootstrap intervals for them and the quantities derived from them (extin
 from cluster sizes alone; and projects the next generations.`,
 		Args: lineListArgs,
 		RunE: func(c *cobra.Command, args []string) error {
-			ld, err := f.load(e, args)
-			if err != nil {
-				return err
-			}
-			o, err := f.options(c, e, ld)
+			ld, o, err := f.loadOptions(c, e, args)
 			if err != nil {
 				return err
 			}
