@@ -214,19 +214,26 @@ func (p *casePlan) replicate(rng *rand.Rand, counts []int) Params {
 }
 
 func (p *casePlan) jackknife() ([]Params, []float64, int) {
-	counts := append([]int(nil), p.t.Counts...)
+	return jackknifeCounts(p.t.Counts, p.n, func(counts []int) Params { return p.fam.FitCounts(p.t.Values, counts) })
+}
+
+// jackknifeCounts is the delete-one jackknife of a fit over a frequency table's counts: one
+// estimate with one case of each observed value left out, weighted by how many cases have
+// that value (each leaves out the same estimate), and the number of cases n.
+func jackknifeCounts(base []int, n int, fit func(counts []int) Params) ([]Params, []float64, int) {
+	counts := append([]int(nil), base...)
 	var vals []Params
 	var w []float64
-	for i, c := range p.t.Counts {
+	for i, c := range base {
 		if c == 0 {
 			continue
 		}
 		counts[i]--
-		vals = append(vals, p.fam.FitCounts(p.t.Values, counts))
+		vals = append(vals, fit(counts))
 		w = append(w, float64(c))
 		counts[i]++
 	}
-	return vals, w, p.n
+	return vals, w, n
 }
 
 type clusterPlan struct {

@@ -393,23 +393,7 @@ func sePos(info float64) float64 {
 // FitAllExposed is FitAll for an Exposed table: each family fitted by FitExposed, the one
 // with the smallest AIC named (the earlier on a tie).
 func FitAllExposed(e Exposed, families ...Family) (fits []ModelFit, best string, err error) {
-	if len(families) == 0 {
-		families = Families()
-	}
-	for _, f := range families {
-		m, err := FitExposed(e, f)
-		if err != nil {
-			return nil, "", err
-		}
-		fits = append(fits, m)
-	}
-	bi := 0
-	for i, m := range fits {
-		if m.AIC < fits[bi].AIC {
-			bi = i
-		}
-	}
-	return fits, fits[bi].Name, nil
+	return fitAll(families, func(f Family) (ModelFit, error) { return FitExposed(e, f) })
 }
 
 // ProfileInterval is a likelihood-ratio (profile-likelihood) confidence interval.

@@ -52,19 +52,7 @@ func (p *exposedCasePlan) replicate(rng *rand.Rand, counts []int) Params {
 }
 
 func (p *exposedCasePlan) jackknife() ([]Params, []float64, int) {
-	counts := append([]int(nil), p.e.Counts...)
-	var vals []Params
-	var w []float64
-	for i, c := range p.e.Counts {
-		if c == 0 {
-			continue
-		}
-		counts[i]--
-		vals = append(vals, fitExposedParams(p.e.withCounts(counts), p.fam))
-		w = append(w, float64(c))
-		counts[i]++
-	}
-	return vals, w, p.n
+	return jackknifeCounts(p.e.Counts, p.n, func(counts []int) Params { return fitExposedParams(p.e.withCounts(counts), p.fam) })
 }
 
 // exposedClusterPlan resamples whole clusters of an Exposed table.

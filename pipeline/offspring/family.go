@@ -163,11 +163,17 @@ func Families() []Family { return []Family{PoissonFamily{}, GeometricFamily{}, N
 // FitAll fits each family (Families when none is given), in order, and names the one with
 // the smallest AIC; on a tie the earlier family (fewer parameters) wins.
 func FitAll(t FreqTable, families ...Family) (fits []ModelFit, best string, err error) {
+	return fitAll(families, func(f Family) (ModelFit, error) { return f.Fit(t) })
+}
+
+// fitAll fits every family (Families() when none is given) with fit and names the one of
+// least AIC.
+func fitAll(families []Family, fit func(Family) (ModelFit, error)) (fits []ModelFit, best string, err error) {
 	if len(families) == 0 {
 		families = Families()
 	}
 	for _, f := range families {
-		m, err := f.Fit(t)
+		m, err := fit(f)
 		if err != nil {
 			return nil, "", err
 		}
