@@ -356,8 +356,10 @@ func (a *run) serialInterval() {
 		a.s.SerialInterval = si
 		return
 	}
+	delay := a.delay()
 	fit, err := timing.FitSerialInterval(intervals, timing.FitOptions{
 		Bootstrap: serialBootstrap, Level: a.o.Level, Workers: a.o.Workers, Rand: a.rng(streamSerial), Truncation: bounds,
+		Delay: delay,
 	})
 	if err != nil {
 		a.note("No serial interval was fitted: %v.", err)
@@ -368,6 +370,7 @@ func (a *run) serialInterval() {
 		N: fit.N, Negative: fit.Negative, NegativeTreatment: fit.NegativeTreatment, BestModel: fit.BestModel,
 		Quantiles:           SerialQuantiles{P50: fit.Quantiles.P50, P95: fit.Quantiles.P95, P99: fit.Quantiles.P99},
 		TruncationCorrected: bounds != nil,
+		DelayCorrected:      bounds != nil && delay != nil,
 	}
 	for _, m := range fit.Models {
 		si.Models = append(si.Models, SerialModel{Name: m.Name, Mean: m.Mean, SD: m.SD, Params: m.Params, LogLik: m.LogLik, AIC: m.AIC})

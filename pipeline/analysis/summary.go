@@ -423,6 +423,9 @@ type SerialInterval struct {
 	// TruncationCorrected is set when the fit conditioned each link on the interval being at
 	// most the days from its infector's onset to the analysis date (right truncation).
 	TruncationCorrected bool `json:"truncation_corrected"`
+	// DelayCorrected is set when that condition also required the infectee to be reported
+	// by the analysis date, under the onset-to-report delay estimated for the nowcast.
+	DelayCorrected bool `json:"delay_corrected"`
 }
 
 // SerialModel is one fitted serial-interval family.

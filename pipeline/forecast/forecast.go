@@ -413,25 +413,16 @@ func (t dayTable) listed(rng *rand.Rand, lag int, delayCDF []float64) bool {
 // maxTries bounds the rejection of drawUnseen.
 const maxTries = 10_000
 
-// cumulative is the running sum of a probability list, checked; nil for nil.
+// cumulative is the running sum of the delay distribution (numeric.Cumulative); nil for nil.
 func cumulative(p []float64) ([]float64, error) {
 	if p == nil {
 		return nil, nil
 	}
-	out := make([]float64, len(p))
-	var sum numeric.Sum
-	for i, v := range p {
-		if !(v >= 0) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("forecast: delay probability %v at day %d", v, i)
-		}
-		sum.Add(v)
-		out[i] = sum.Value()
+	c, err := numeric.Cumulative(p)
+	if err != nil {
+		return nil, fmt.Errorf("forecast: delay: %w", err)
 	}
-	if len(out) == 0 || math.Abs(out[len(out)-1]-1) > 1e-9 {
-		return nil, errors.New("forecast: the delay probabilities do not add up to 1")
-	}
-	out[len(out)-1] = 1
-	return out, nil
+	return c, nil
 }
 
 // Elapsed returns the share of its infectees that a case with onset lag days before the

@@ -93,6 +93,11 @@ type FitOptions struct {
 	// is then conditioned on the interval being at most its bound (see FitSerialInterval).
 	// A bound below its interval (an onset after the analysis date) is raised to it.
 	Truncation []int
+	// Delay, with Truncation, is the distribution of the days from onset to report,
+	// Delay[d] = P(D = d) (nil: every case with onset up to the analysis date is listed).
+	// An infectee is then in the list only once reported too, so a link with bound T is
+	// observed with probability Σ_{e ≤ T} P(round(X) = e)·P(D ≤ T − e) (FitSerialInterval).
+	Delay []float64
 }
 
 // TooFewIntervalsError says the fit had fewer than two usable (non-negative) intervals.
@@ -127,6 +132,12 @@ func (e *TooFewIntervalsError) Error() string {
 //
 //	log[(F(d + 0.5) − F(max(d − 0.5, 0))) / F(T + 0.5)],
 //
+// With opt.Delay as well, an infectee with onset e days after its infector's is listed only
+// if its report delay D is at most T − e, so the probability of observing the link, the
+// denominator, is Σ_{e=0}^{T} (F(e + 0.5) − F(max(e − 0.5, 0)))·P(D ≤ T − e): the same
+// conditioning on the event of being observed, which now also needs the report (the
+// numerator's factor P(D ≤ T − d) does not depend on the serial interval and drops out).
+//
 // for every family and in every bootstrap replicate, which resamples (interval, bound)
 // pairs. LogLik and AIC are then those of this conditional likelihood.
 func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
@@ -135,6 +146,13 @@ func FitSerialInterval(intervals []int, opt FitOptions) (SerialFit, error) {
 	}
 	tab, neg := tabulateTruncated(intervals, opt.Truncation)
 	out := SerialFit{N: tab.n, Negative: neg, NegativeTreatment: NegativeTreatment}
+	if opt.Delay != nil && opt.Truncation != nil {
+		cdf, err := numeric.Cumulative(opt.Delay)
+		if err != nil {
+			return out, fmt.Errorf("serial interval: report delay: %w", err)
+		}
+		tab.delayCDF = cdf
+	}
 	if tab.n < 2 {
 		return out, &TooFewIntervalsError{Usable: tab.n, Negative: neg}
 	}
@@ -230,6 +248,8 @@ type intervalTable struct {
 	values []int
 	counts []int
 	n      int
+	// delayCDF[j] = P(D ≤ j) of the report delay (FitOptions.Delay); nil without one.
+	delayCDF []float64
 	// bounds are the distinct truncation bounds T (ascending) and bcounts how many links
 	// have each; empty without truncation.
 	bounds  []int
@@ -318,15 +338,31 @@ func (t intervalTable) logLikImpossible(si SerialInterval) (float64, int) {
 	if len(t.bounds) == 0 || si.Validate() != nil {
 		return ll, impossible
 	}
+	var mass []float64 // P(round(X) = e) for e up to the largest bound, with a delay
+	if t.delayCDF != nil {
+		mass = make([]float64, t.bounds[len(t.bounds)-1]+1)
+		prev := 0.0
+		for e := range mass {
+			c := si.CDF(float64(e) + 0.5)
+			mass[e], prev = c-prev, c
+		}
+	}
 	for i, b := range t.bounds {
 		if t.bcounts[i] == 0 {
 			continue
 		}
 		x := float64(b) + 0.5
 		var lf float64
-		if s := si.Survival(x); s < 0.5 {
+		switch s := si.Survival(x); {
+		case mass != nil:
+			var sum numeric.Sum
+			for e := 0; e <= b; e++ {
+				sum.Add(mass[e] * t.delayCDF[min(b-e, len(t.delayCDF)-1)])
+			}
+			lf = math.Log(sum.Value())
+		case s < 0.5:
 			lf = math.Log1p(-s) // F near 1: log(1 − S) keeps its small digits
-		} else {
+		default:
 			lf = math.Log(si.CDF(x))
 		}
 		if math.IsInf(lf, 0) || math.IsNaN(lf) {
@@ -581,7 +617,7 @@ func bootstrapFits(fam family, tab intervalTable, start [2]float64, b, workers i
 		go func(w int) {
 			defer wg.Done()
 			draws := make([]int, len(tab.pc))
-			rep := intervalTable{values: tab.values, counts: make([]int, len(tab.values)), n: tab.n, bounds: tab.bounds,
+			rep := intervalTable{values: tab.values, counts: make([]int, len(tab.values)), n: tab.n, bounds: tab.bounds, delayCDF: tab.delayCDF,
 				bcounts: make([]int, len(tab.bounds))}
 			for i := w; i < b; i += workers {
 				r := rand.New(rand.NewPCG(seeds[i][0], seeds[i][1]))

@@ -6,6 +6,7 @@ import (
 	"os"
 	"testing"
 
+	"github.com/caseweave/caseweave/pipeline/internal/numeric"
 	"github.com/caseweave/caseweave/pipeline/linelist"
 	"github.com/caseweave/caseweave/pipeline/simulate"
 )
@@ -166,5 +167,71 @@ func TestTruncationStudy(t *testing.T) {
 		if math.Abs(et-5) > 3*sdt/math.Sqrt(n) {
 			t.Errorf("R=%v: truncation-aware mean %.3f is more than 3 SE from 5", sc.R, et)
 		}
+	}
+}
+
+// TestTruncatedFitWithReportDelay: when a case is listed only once reported, a link is
+// observed only if its infectee's onset and report both fall by the analysis date, so the
+// conditioning on the bound alone under-corrects; conditioning on onset plus report delay
+// (FitOptions.Delay, the true negative-binomial delay of mean 6 days here) recovers the
+// true mean of 5 days within 3 bootstrap SE.
+func TestTruncatedFitWithReportDelay(t *testing.T) {
+	start, _ := linelist.ParseISODay("2026-01-05")
+	until := start + 70
+	recs, err := simulate.Run(simulate.Scenario{
+		R: 1.6, K: 1, SerialMean: 5, SerialSD: 2.5, IndexCases: 20, Start: start,
+		IndexSpreadDays: 5, Until: &until, Seed: 1,
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Negative-binomial delays of size 2 and mean 6: P(D = d) = (d + 1)·p²·(1 − p)^d, p = 2/8.
+	const size, mean = 2.0, 6.0
+	p := size / (size + mean)
+	var pmf []float64
+	for d, tail := 0, 1.0; tail > 1e-13; d++ {
+		v := float64(d+1) * p * p * math.Pow(1-p, float64(d))
+		pmf = append(pmf, v)
+		tail -= v
+	}
+	total := 0.0
+	for _, v := range pmf {
+		total += v
+	}
+	for i := range pmf {
+		pmf[i] /= total
+	}
+	listed := make(map[string]linelist.Day, len(recs))
+	for i, r := range recs {
+		rng := numeric.StreamRand(7, i)
+		if r.Onset+linelist.Day(numeric.Poisson(rng, numeric.Gamma(rng, size)*mean/size)) <= until {
+			listed[r.ID] = r.Onset
+		}
+	}
+	var iv, bd []int
+	for _, r := range recs {
+		j, ok := listed[r.InfectorID]
+		if _, self := listed[r.ID]; !ok || !self {
+			continue
+		}
+		iv = append(iv, int(r.Onset-j))
+		bd = append(bd, int(until-j))
+	}
+	boundOnly, err := FitSerialInterval(iv, FitOptions{Truncation: bd})
+	if err != nil {
+		t.Fatal(err)
+	}
+	both, err := FitSerialInterval(iv, FitOptions{Truncation: bd, Delay: pmf, Bootstrap: 200, Rand: rand.New(rand.NewPCG(2, 3))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mb, md := gammaMean(t, boundOnly), gammaMean(t, both)
+	se := (both.MeanCI[1] - both.MeanCI[0]) / (2 * 1.96)
+	t.Logf("%d links: bound only %.3f, bound and delay %.3f (bootstrap SE %.3f)", len(iv), mb, md, se)
+	if math.Abs(md-5) > 3*se {
+		t.Errorf("with the delay the mean %.3f is more than 3 SE (%.3f) from the true 5", md, se)
+	}
+	if !(5-mb > 3*se) {
+		t.Errorf("the bound alone should leave the mean %.3f short of 5 by more than 3 SE (%.3f)", mb, se)
 	}
 }
