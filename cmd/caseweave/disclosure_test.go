@@ -144,11 +144,8 @@ func csvCounts(t *testing.T, path string, columns ...string) []float64 {
 // thumb). The check is shown to catch a leak planted in a released JSON.
 func TestBatchOutputsGiveNothingAway(t *testing.T) {
 	dir := t.TempDir()
-	if code, _, stderr := cli(t, "demo", "-o", filepath.Join(dir, "demo")); code != 0 {
-		t.Fatal(stderr)
-	}
 	for _, c := range []struct{ name, list, asOf string }{
-		{"demo", filepath.Join(dir, "demo", "vell-estuary-linelist.csv"), demoAsOf},
+		{"demo", filepath.Join(sharedDemo(t), "vell-estuary-linelist.csv"), demoAsOf},
 		{"hostile", hostileLineList(t, dir), "2026-11-27"},
 	} {
 		out, internal, tables := filepath.Join(dir, c.name+"-out"), filepath.Join(dir, c.name+"-internal"), filepath.Join(dir, c.name+"-tables")

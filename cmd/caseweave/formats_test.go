@@ -138,10 +138,7 @@ func TestWorkbookGauntlet(t *testing.T) {
 		t.Skip("builds the program; skipped with -short")
 	}
 	dir := t.TempDir()
-	bin := filepath.Join(dir, "caseweave")
-	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
-		t.Fatalf("build: %v\n%s", err, out)
-	}
+	bin := program(t)
 	runBin := func(t *testing.T, args ...string) (int, string) {
 		t.Helper()
 		ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)

@@ -107,10 +107,7 @@ func TestHistoryTwoReportsAtOnce(t *testing.T) {
 		t.Skip("builds the program; skipped with -short")
 	}
 	dir := t.TempDir()
-	bin := filepath.Join(dir, "caseweave")
-	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
-		t.Fatalf("build: %v\n%s", err, out)
-	}
+	bin := program(t)
 	arch := filepath.Join(dir, "runs.sqlite")
 	for round := range 2 {
 		var wg sync.WaitGroup

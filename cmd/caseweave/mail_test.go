@@ -28,15 +28,6 @@ var demoRecipients = map[string][]string{
 	"quillan-bay": {"health-office@quillan-bay.example", "duty@quillan-bay.example", "archive@vell-estuary.example"},
 }
 
-func demoBatch(t *testing.T) string {
-	t.Helper()
-	dir := filepath.Join(t.TempDir(), "demo")
-	if code, _, stderr := cli(t, "demo", "-o", dir); code != 0 {
-		t.Fatal(stderr)
-	}
-	return dir
-}
-
 // mailParts returns the plain-text and HTML parts of a message and its other parts.
 func mailParts(t *testing.T, eml []byte) (text, htm string, parts []smtptest.Part) {
 	t.Helper()
@@ -318,7 +309,7 @@ func TestMailDryRunOfTheDemo(t *testing.T) {
 // its own threshold: every figure is the report's or withheld, and only the strata's mean
 // offspring (whose case counts the released JSON does not carry) are withheld anew.
 func TestMailReleasesTheReportsView(t *testing.T) {
-	dir := demoBatch(t)
+	dir := sharedDemo(t)
 	for slug := range demoRecipients {
 		path := filepath.Join(dir, slug+".json")
 		rel, err := releasedFrom(path)

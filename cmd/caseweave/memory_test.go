@@ -20,10 +20,7 @@ func TestTenMillionRowsUnderTwoGB(t *testing.T) {
 		t.Skip("set CASEWEAVE_BIG=1 to run the 10,000,000-row memory test")
 	}
 	dir := t.TempDir()
-	bin := filepath.Join(dir, "caseweave")
-	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
-		t.Fatalf("build: %v\n%s", err, out)
-	}
+	bin := program(t)
 	list := filepath.Join(dir, "ten-million.csv")
 	f, err := os.Create(list)
 	if err != nil {

@@ -301,10 +301,7 @@ func TestTemplateSymlinkCannotEscape(t *testing.T) {
 // hold elsewhere, the largest chains count their local cases apart, the reports' case counts
 // add up to the line list's, and one case has one label in every report.
 func TestBatchChainCountsAgree(t *testing.T) {
-	dir := t.TempDir()
-	if code, _, stderr := cli(t, "demo", "-o", dir); code != 0 {
-		t.Fatal(stderr)
-	}
+	dir := sharedDemo(t)
 	total, used := 0, 0
 	sums, _ := filepath.Glob(filepath.Join(dir, "*.json"))
 	byRoot := map[string]int{}
@@ -362,10 +359,7 @@ func TestBatchChainCountsAgree(t *testing.T) {
 // One setting has one colour in every report of a batch, two settings never share one, and
 // the epidemic curve draws (and so lists in its legend) only the settings that have a bar.
 func TestBatchColoursAgree(t *testing.T) {
-	dir := t.TempDir()
-	if code, _, stderr := cli(t, "demo", "-o", dir); code != 0 {
-		t.Fatal(stderr)
-	}
+	dir := sharedDemo(t)
 	pages, _ := filepath.Glob(filepath.Join(dir, "*.html"))
 	colourOf := map[string]string{}
 	nameOf := map[string]string{}
