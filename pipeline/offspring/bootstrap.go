@@ -236,12 +236,51 @@ func jackknifeCounts(base []int, n int, fit func(counts []int) Params) ([]Params
 	return vals, w, n
 }
 
-type clusterPlan struct {
-	values []int   // union of the clusters' values, ascending
-	idx    [][]int // idx[c][j]: position in values of cluster c's j-th value
+// clusterRows places each cluster's counts in the rows of one table that holds every
+// cluster: idx[c][j] is the row of cluster c's j-th count, counts[c][j] that count. The
+// plain and the truncation-aware cluster bootstraps resample and leave out clusters
+// through it, each refitting the summed rows its own way.
+type clusterRows struct {
+	idx    [][]int
 	counts [][]int
-	total  []int // summed table
-	fam    Family
+}
+
+// resample sets counts to the summed rows of len(idx) clusters drawn with replacement.
+func (r *clusterRows) resample(rng *rand.Rand, counts []int) {
+	clear(counts)
+	C := len(r.idx)
+	for range C {
+		c := rng.IntN(C)
+		for j, i := range r.idx[c] {
+			counts[i] += r.counts[c][j]
+		}
+	}
+}
+
+// jackknife fits the summed rows with each cluster left out in turn; total is the sum of
+// every cluster's rows.
+func (r *clusterRows) jackknife(total []int, fit func(counts []int) Params) ([]Params, []float64, int) {
+	counts := append([]int(nil), total...)
+	vals := make([]Params, len(r.idx))
+	w := make([]float64, len(r.idx))
+	for c := range r.idx {
+		for j, i := range r.idx[c] {
+			counts[i] -= r.counts[c][j]
+		}
+		vals[c] = fit(counts) // NaN when the only cluster is left out
+		w[c] = 1
+		for j, i := range r.idx[c] {
+			counts[i] += r.counts[c][j]
+		}
+	}
+	return vals, w, len(r.idx)
+}
+
+type clusterPlan struct {
+	values []int // union of the clusters' values, ascending
+	clusterRows
+	total []int // summed table
+	fam   Family
 }
 
 func newClusterPlan(clusters []FreqTable, fam Family) (*clusterPlan, error) {
@@ -286,32 +325,12 @@ func (p *clusterPlan) method() string    { return ClusterResampling }
 func (p *clusterPlan) estimate() Params  { return p.fam.FitCounts(p.values, p.total) }
 func (p *clusterPlan) newScratch() []int { return make([]int, len(p.values)) }
 func (p *clusterPlan) replicate(rng *rand.Rand, counts []int) Params {
-	clear(counts)
-	C := len(p.idx)
-	for range C {
-		c := rng.IntN(C)
-		for j, i := range p.idx[c] {
-			counts[i] += p.counts[c][j]
-		}
-	}
+	p.resample(rng, counts)
 	return p.fam.FitCounts(p.values, counts)
 }
 
 func (p *clusterPlan) jackknife() ([]Params, []float64, int) {
-	counts := append([]int(nil), p.total...)
-	vals := make([]Params, len(p.idx))
-	w := make([]float64, len(p.idx))
-	for c := range p.idx {
-		for j, i := range p.idx[c] {
-			counts[i] -= p.counts[c][j]
-		}
-		vals[c] = p.fam.FitCounts(p.values, counts) // NaN when the only cluster is left out
-		w[c] = 1
-		for j, i := range p.idx[c] {
-			counts[i] += p.counts[c][j]
-		}
-	}
-	return vals, w, len(p.idx)
+	return p.clusterRows.jackknife(p.total, func(counts []int) Params { return p.fam.FitCounts(p.values, counts) })
 }
 
 // Interval is a two-sided bootstrap confidence interval for one statistic.

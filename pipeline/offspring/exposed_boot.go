@@ -57,10 +57,9 @@ func (p *exposedCasePlan) jackknife() ([]Params, []float64, int) {
 
 // exposedClusterPlan resamples whole clusters of an Exposed table.
 type exposedClusterPlan struct {
-	union  Exposed // every (count, share) group of every cluster
-	idx    [][]int // idx[c][j]: position in union of cluster c's j-th group
-	counts [][]int
-	fam    Family
+	union       Exposed // every (count, share) group of every cluster
+	clusterRows         // rows in union
+	fam         Family
 }
 
 func newExposedClusterPlan(clusters []Exposed, fam Family) (*exposedClusterPlan, error) {
@@ -112,32 +111,14 @@ func (p *exposedClusterPlan) method() string    { return ClusterResampling }
 func (p *exposedClusterPlan) estimate() Params  { return fitExposedParams(p.union, p.fam) }
 func (p *exposedClusterPlan) newScratch() []int { return make([]int, len(p.union.Values)) }
 func (p *exposedClusterPlan) replicate(rng *rand.Rand, counts []int) Params {
-	clear(counts)
-	C := len(p.idx)
-	for range C {
-		c := rng.IntN(C)
-		for j, i := range p.idx[c] {
-			counts[i] += p.counts[c][j]
-		}
-	}
+	p.resample(rng, counts)
 	return fitExposedParams(p.union.withCounts(counts), p.fam)
 }
 
 func (p *exposedClusterPlan) jackknife() ([]Params, []float64, int) {
-	counts := append([]int(nil), p.union.Counts...)
-	vals := make([]Params, len(p.idx))
-	w := make([]float64, len(p.idx))
-	for c := range p.idx {
-		for j, i := range p.idx[c] {
-			counts[i] -= p.counts[c][j]
-		}
-		vals[c] = fitExposedParams(p.union.withCounts(counts), p.fam)
-		w[c] = 1
-		for j, i := range p.idx[c] {
-			counts[i] += p.counts[c][j]
-		}
-	}
-	return vals, w, len(p.idx)
+	return p.clusterRows.jackknife(p.union.Counts, func(counts []int) Params {
+		return fitExposedParams(p.union.withCounts(counts), p.fam)
+	})
 }
 
 // ExpectedCounts is, for x = 0 … maxX, the number of cases expected to show x observed
