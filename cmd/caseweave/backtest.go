@@ -64,18 +64,14 @@ date for nearly all their reports to be in (the reporting delay's 95th percentil
 				return withCode(exitInput, err)
 			}
 			printBacktest(f.textOut(e), bt)
-			if b.csv != "" {
-				var buf bytes.Buffer
-				if err := writeBacktestCSV(&buf, bt); err != nil {
-					return withCode(exitOutput, err)
-				}
-				if b.csv == "-" {
-					_, err := e.stdout.Write(buf.Bytes())
-					return withCode(exitOutput, err)
-				}
-				return writeFileAtomic(b.csv, buf.Bytes())
+			if b.csv == "" {
+				return nil
 			}
-			return nil
+			var buf bytes.Buffer
+			if err := writeBacktestCSV(&buf, bt); err != nil {
+				return withCode(exitOutput, err)
+			}
+			return writeOut(e, b.csv, buf.Bytes())
 		},
 	}
 	f.register(c)
